@@ -1,0 +1,176 @@
+"""The ``leosite`` command line: scripts and batch work (the text UI is the main face).
+
+Exit codes: 0 success, 2 bad input (one line per problem on stderr, no traceback),
+130 interrupted.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+import time
+from pathlib import Path
+
+from . import __version__
+from .errors import InputError, Problems
+from .fileio import atomic_write_bytes
+from .pipeline import FleetChoice, SiteRun, result_dict, run_site
+from .site import load_site, parse_time
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # one line and exit 2, like every other input problem
+        raise InputError(f"command line: {message} (see '{self.prog} --help')")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="leosite", description="Terminal-site survey and obstruction checker "
+                                            "for low-Earth-orbit broadband terminals.")
+    p.add_argument("--version", action="version", version=f"leosite {__version__}")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    a = sub.add_parser("assess", help="assess one site: blocked sky, availability, outages, verdict",
+                       description="Assess one site file against a satellite fleet over a time window.")
+    a.add_argument("site", metavar="SITE", help="site file (site.toml)")
+    fleet = a.add_mutually_exclusive_group()
+    fleet.add_argument("--shells", metavar="FILE", type=Path, help="Walker shell file (TOML)")
+    fleet.add_argument("--tle", metavar="FILE", type=Path,
+                       help="element sets: TLE (2- or 3-line) or CCSDS OMM (XML, CSV, JSON)")
+    a.add_argument("--start", metavar="ISO", help="window start, UTC, e.g. 2026-06-01T00:00:00Z")
+    a.add_argument("--hours", metavar="H", type=float, help="window length in hours (default 24)")
+    a.add_argument("--step", metavar="S", type=float, help="sample step in seconds (default 15)")
+    a.add_argument("--min-elevation", metavar="DEG", type=float,
+                   help="override the terminal's minimum elevation")
+    a.add_argument("--json", action="store_true", help="print one JSON object instead of the summary")
+    a.add_argument("--plot", metavar="PNG", type=Path, help="write a sky plot (PNG)")
+    return p
+
+
+def _check_assess_args(args) -> None:
+    problems = Problems("command line")
+    if args.hours is not None and not args.hours > 0:
+        problems.add("--hours", f"must be greater than 0, got {args.hours:g}")
+    if args.step is not None and not args.step > 0:
+        problems.add("--step", f"must be greater than 0, got {args.step:g}")
+    if args.min_elevation is not None and not 0 <= args.min_elevation <= 90:
+        problems.add("--min-elevation", f"{args.min_elevation:g} is outside 0 to 90 degrees")
+    if args.start is not None:
+        args.start = parse_time(args.start, "--start", problems)
+    if args.plot is not None:
+        if args.plot.suffix.lower() != ".png":
+            problems.add("--plot", f"{args.plot}: expected a .png file name")
+        elif not (args.plot.parent if str(args.plot.parent) else Path(".")).is_dir():
+            problems.add("--plot", f"{args.plot}: folder {args.plot.parent} does not exist")
+    for opt in ("shells", "tle"):
+        f = getattr(args, opt)
+        if f is not None and not f.is_file():
+            problems.add(f"--{opt}", f"{f}: file not found")
+    problems.raise_if_any()
+
+
+class _Progress:
+    """A one-line bar on stderr, redrawn in place on a terminal; on a pipe just
+    one line when done."""
+
+    def __init__(self, label: str, live: bool, quiet: bool):
+        self.label, self.live, self.quiet = label, live, quiet
+        self.t0 = time.monotonic()
+
+    def __call__(self, fraction: float) -> None:
+        if self.live:
+            filled = int(30 * fraction)
+            sys.stderr.write(f"\r{self.label} [{'#' * filled}{'.' * (30 - filled)}] {fraction:4.0%}")
+            sys.stderr.flush()
+
+    def done(self) -> None:
+        took = time.monotonic() - self.t0
+        if self.live:
+            sys.stderr.write(f"\r{self.label} done in {took:.1f} s{' ' * 30}\n")
+        elif not self.quiet:
+            sys.stderr.write(f"{self.label} done in {took:.1f} s\n")
+
+
+def _pct(x) -> str:
+    return "n/a" if x is None else f"{100 * x:.2f} %"
+
+
+def format_summary(run: SiteRun) -> str:
+    d = result_dict(run)
+    s, w, a = run.site, run.window, run.assessment
+    ns = "N" if s.latitude_deg >= 0 else "S"
+    ew = "E" if s.longitude_deg >= 0 else "W"
+    groups = ", ".join(f"{k} {v}" for k, v in run.fleet.groups.items())
+    lines = [
+        f"{s.name}",
+        f"  at {abs(s.latitude_deg):.5f}°{ns} {abs(s.longitude_deg):.5f}°{ew}, ground {s.elevation_m:g} m, "
+        f"{s.mount.kind} mount {s.mount.height_m:g} m up",
+        f"  window     {d['window']['start']} for {w.hours:g} h at {w.step_s:g} s ({w.count} samples)",
+        f"  satellites {len(run.fleet)} ({groups}){'  [illustrative]' if run.fleet.illustrative else ''}",
+        f"  sky        usable above {s.terminal.min_elevation_deg:g}°"
+        + (f" within {s.terminal.scan_half_angle_deg:g}° of a boresight tilted {s.terminal.tilt_deg:g}° "
+           f"toward {s.terminal.tilt_azimuth_deg:g}°" if s.terminal.scan_half_angle_deg else "")
+        + f"; {a.usable_samples} usable samples",
+        f"  compass    declination {run.declination.declination_deg:+.2f}° (WMM2025); horizon bearings "
+        + ("magnetic, rotated to true" if s.horizon.reference == "magnetic" else "true"),
+        "",
+        f"  verdict        {a.verdict.upper()}: {a.verdict_reason}",
+        f"  blocked        {_pct(a.blocked_fraction)} of usable sky samples",
+        f"  availability   {_pct(a.availability)} of the time an unblocked satellite is in view",
+        f"  interruption   {_pct(a.interruption)} of the time down (reassignment every "
+        f"{s.schedule.reassign_s:g} s)",
+    ]
+    o = d["outages"]
+    lines.append(f"  outages        {o['count_per_day']:.1f} a day, {o['minutes_per_day']:.1f} min a day, "
+                 f"longest {o['longest_s']:g} s")
+    if a.sectors:
+        lines += ["", "  obstructions by cost          share of blocked   blocked if cleared"]
+        for sec in a.sectors[:8]:
+            name = ", ".join(sec.labels) or "unnamed"
+            lines.append(f"    {sec.from_deg:5.1f}°–{sec.to_deg:5.1f}°  up to {sec.peak_elevation_deg:4.1f}°  "
+                         f"{name[:14]:<14} {100 * sec.blocked_share:5.1f} %     "
+                         f"{_pct(sec.blocked_fraction_if_cleared)}")
+    if run.warnings:
+        lines += ["", "  warnings"] + [f"    - {msg}" for msg in run.warnings]
+    return "\n".join(lines)
+
+
+def cmd_assess(args) -> int:
+    _check_assess_args(args)
+    site = load_site(args.site)
+    live = sys.stderr.isatty()
+    bar = _Progress("propagating", live=live, quiet=args.json)
+    run = run_site(site, FleetChoice(args.shells, args.tle), args.start, args.hours, args.step,
+                   args.min_elevation, progress=bar)
+    bar.done()
+    if args.plot is not None:
+        from .render import sky_plot_png
+
+        atomic_write_bytes(args.plot, sky_plot_png(run))
+    if args.json:
+        print(json.dumps(result_dict(run), indent=2))
+    else:
+        print(format_summary(run))
+        if args.plot is not None:
+            print(f"\n  sky plot written to {args.plot}")
+    return 0
+
+
+def main(argv=None) -> int:
+    parser = build_parser()
+    try:
+        args = parser.parse_args(argv)
+        if args.command == "assess":
+            return cmd_assess(args)
+        parser.print_help()
+        return 2
+    except InputError as exc:
+        for line in exc.problems:
+            print(f"leosite: {line}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("leosite: interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())

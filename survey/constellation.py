@@ -1,0 +1,333 @@
+"""Satellite fleets as SGP4 element sets.
+
+Sources: Walker delta shells from a shell file (Walker, J. British
+Interplanetary Society 37, 1984), TLE files (two- or three-line, checksums
+verified) and CCSDS OMM files (XML, CSV, JSON), all turned into ``sgp4`` Satrec
+objects (Vallado et al. 2006, "Revisiting Spacetrack Report #3").
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+import tomllib
+import xml.etree.ElementTree as ET
+from dataclasses import dataclass
+from datetime import datetime, timedelta, timezone
+from importlib import resources
+from pathlib import Path
+
+from sgp4.api import WGS72, Satrec
+
+from .errors import InputError, Problems
+from .fileio import read_text
+
+MU_KM3_S2 = 398600.4418  # WGS84 Earth gravitational parameter (NIMA TR8350.2)
+EARTH_RADIUS_KM = 6378.137  # WGS84 equatorial radius
+JD_1949_DEC_31 = 2433281.5  # SGP4's epoch origin (days since 1949 Dec 31 00:00 UT)
+STALE_AFTER_DAYS = 14.0  # common practice: TLE accuracy degrades over days
+
+
+@dataclass(frozen=True)
+class Shell:
+    """One Walker delta shell: T = planes * per_plane satellites, circular."""
+
+    name: str
+    altitude_km: float
+    inclination_deg: float
+    planes: int
+    per_plane: int
+    phasing: int = 0
+
+    @property
+    def total(self) -> int:
+        return self.planes * self.per_plane
+
+    def slots(self):
+        """(plane, slot, RAAN deg, mean anomaly deg) of every satellite, per Walker:
+        RAAN_p = 360 p / P;  M_ps = 360 s / S + 360 F p / T."""
+        T = self.total
+        for p in range(self.planes):
+            for s in range(self.per_plane):
+                raan = 360.0 * p / self.planes
+                ma = (360.0 * s / self.per_plane + 360.0 * self.phasing * p / T) % 360.0
+                yield p, s, raan, ma
+
+
+@dataclass
+class Fleet:
+    """Satellites to propagate, with where they came from.
+
+    ``group`` names each satellite's shell or source file; ``epochs_utc`` are the
+    element-set epochs.  ``illustrative`` marks the embedded default set."""
+
+    satrecs: list
+    names: list[str]
+    group: list[str]
+    source: str
+    illustrative: bool = False
+
+    def __len__(self) -> int:
+        return len(self.satrecs)
+
+    @property
+    def groups(self) -> dict[str, int]:
+        out: dict[str, int] = {}
+        for g in self.group:
+            out[g] = out.get(g, 0) + 1
+        return out
+
+    def epochs_utc(self) -> list[datetime]:
+        base = datetime(1949, 12, 31, tzinfo=timezone.utc)
+        return [base + timedelta(days=(s.jdsatepoch - JD_1949_DEC_31) + s.jdsatepochF) for s in self.satrecs]
+
+    def age_warnings(self, start: datetime) -> list[str]:
+        """Warn when element sets are older than STALE_AFTER_DAYS at the window start,
+        or when the window starts well before the epoch."""
+        if self.illustrative or not self.satrecs:
+            return []
+        epochs = self.epochs_utc()
+        ages = [(start - e).total_seconds() / 86400.0 for e in epochs]
+        notes = []
+        old = [a for a in ages if a > STALE_AFTER_DAYS]
+        if old:
+            notes.append(
+                f"{len(old)} of {len(ages)} element sets are older than {STALE_AFTER_DAYS:.0f} days at the "
+                f"window start (oldest {max(old):.0f} days): positions may be off by many km; fetch fresh elements"
+            )
+        early = [a for a in ages if a < -STALE_AFTER_DAYS]
+        if early:
+            notes.append(
+                f"{len(early)} element sets have epochs more than {STALE_AFTER_DAYS:.0f} days after the window start"
+            )
+        return notes
+
+
+def kepler_mean_motion_rad_s(altitude_km: float) -> float:
+    """Mean motion n = sqrt(mu / a^3) of a circular orbit (Kepler's third law)."""
+    a = EARTH_RADIUS_KM + altitude_km
+    return math.sqrt(MU_KM3_S2 / a**3)
+
+
+def walker_fleet(shells: list[Shell], epoch: datetime, source: str, illustrative: bool = False) -> Fleet:
+    """Element sets for Walker shells, circular orbits with the window start as epoch."""
+    jd = _julian_date(epoch)
+    sgp4_epoch = jd - JD_1949_DEC_31
+    satrecs, names, group = [], [], []
+    number = 1
+    for shell in shells:
+        n_rad_min = kepler_mean_motion_rad_s(shell.altitude_km) * 60.0
+        inc = math.radians(shell.inclination_deg)
+        for p, s, raan, ma in shell.slots():
+            sat = Satrec()
+            # ecco 0 and bstar 0: ideal circular orbits without drag.
+            sat.sgp4init(WGS72, "i", number, sgp4_epoch, 0.0, 0.0, 0.0, 0.0, 0.0, inc,
+                         math.radians(ma), n_rad_min, math.radians(raan))
+            satrecs.append(sat)
+            names.append(f"{shell.name}-{p + 1:02d}-{s + 1:02d}")
+            group.append(shell.name)
+            number += 1
+    return Fleet(satrecs, names, group, source, illustrative)
+
+
+def _julian_date(when: datetime) -> float:
+    when = when.astimezone(timezone.utc)
+    j2000 = datetime(2000, 1, 1, 12, tzinfo=timezone.utc)
+    return 2451545.0 + (when - j2000).total_seconds() / 86400.0
+
+
+def parse_shells(text: str, where: str) -> list[Shell]:
+    """Shells from shell-file TOML text: a list of [[shell]] tables."""
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{where}: not valid TOML: {exc}") from None
+    problems = Problems(where)
+    raw = doc.get("shell")
+    if not isinstance(raw, list) or not raw:
+        raise InputError(f"{where}: shell: expected one or more [[shell]] tables")
+    for key in doc:
+        if key != "shell":
+            problems.add(key, "unknown table (expected [[shell]])")
+    shells = []
+    known = ("name", "altitude_km", "inclination_deg", "planes", "per_plane", "phasing")
+    for i, t in enumerate(raw):
+        f = f"shell[{i}]"
+        for key in t:
+            if key not in known:
+                problems.add(f"{f}.{key}", f"unknown key (expected one of: {', '.join(known)})")
+        name = t.get("name", f"shell-{i + 1}")
+        if not isinstance(name, str):
+            problems.add(f"{f}.name", "expected text")
+            name = f"shell-{i + 1}"
+
+        def num(key, lo, hi, integer=False, default=None):
+            if key not in t:
+                if default is None:
+                    problems.add(f"{f}.{key}", "missing")
+                return default
+            v = t[key]
+            ok = isinstance(v, int) if integer else isinstance(v, (int, float))
+            if isinstance(v, bool) or not ok:
+                problems.add(f"{f}.{key}", f"expected {'a whole number' if integer else 'a number'}, got {v!r}")
+                return default
+            if not lo <= v <= hi:
+                problems.add(f"{f}.{key}", f"{v} is outside {lo} to {hi}")
+                return default
+            return v
+
+        alt = num("altitude_km", 150, 3000)
+        inc = num("inclination_deg", 0, 180)
+        planes = num("planes", 1, 1000, True)
+        per = num("per_plane", 1, 1000, True)
+        phasing = num("phasing", 0, 10**6, True, default=0)
+        if planes and phasing is not None and phasing >= planes and planes > 0:
+            problems.add(f"{f}.phasing", f"must be below planes ({planes}) in a Walker delta pattern")
+        if None not in (alt, inc, planes, per):
+            shells.append(Shell(name, float(alt), float(inc), int(planes), int(per), int(phasing or 0)))
+    problems.raise_if_any()
+    return shells
+
+
+def load_shells(path: str | Path, epoch: datetime) -> Fleet:
+    path = Path(path)
+    shells = parse_shells(read_text(path, "shell file"), str(path))
+    return walker_fleet(shells, epoch, f"Walker shells from {path.name}")
+
+
+def default_fleet(epoch: datetime) -> Fleet:
+    """The embedded illustrative shell set (our own; not a real constellation)."""
+    text = resources.files("survey.data").joinpath("illustrative_shells.toml").read_text("utf-8")
+    shells = parse_shells(text, "illustrative_shells.toml")
+    return walker_fleet(shells, epoch, "illustrative shells (leosite default, not a real constellation)",
+                        illustrative=True)
+
+
+def tle_checksum(line: str) -> int:
+    """TLE checksum: sum of digits, minus signs count 1, modulo 10 (column 69)."""
+    return sum(int(c) if c.isdigit() else (1 if c == "-" else 0) for c in line[:68]) % 10
+
+
+def parse_tle(text: str, where: str) -> Fleet:
+    """Two- or three-line element sets; every checksum is verified."""
+    lines = [(n, ln.rstrip()) for n, ln in enumerate(text.splitlines(), start=1) if ln.strip()]
+    problems = Problems(where)
+    satrecs, names = [], []
+    i = 0
+    while i < len(lines):
+        n, ln = lines[i]
+        name = None
+        if not ln.startswith("1 "):
+            name = ln[2:].strip() if ln.startswith("0 ") else ln.strip()
+            i += 1
+            if i >= len(lines):
+                problems.add(f"line {n}", "name line without element lines after it")
+                break
+        if i + 1 >= len(lines):
+            problems.add(f"line {lines[i][0]}", "expected TLE line 1 followed by line 2")
+            break
+        (n1, l1), (n2, l2) = lines[i], lines[i + 1]
+        i += 2
+        bad = False
+        for num, ln_, first in ((n1, l1, "1"), (n2, l2, "2")):
+            if not ln_.startswith(first + " ") or len(ln_) < 69:
+                problems.add(f"line {num}", f"expected TLE line {first} (69 columns starting '{first} ')")
+                bad = True
+            elif not ln_[68].isdigit() or int(ln_[68]) != tle_checksum(ln_):
+                problems.add(f"line {num}", f"checksum mismatch: column 69 says {ln_[68]!r}, "
+                                            f"the line sums to {tle_checksum(ln_)}")
+                bad = True
+        if bad:
+            continue
+        if l1[2:7] != l2[2:7]:
+            problems.add(f"line {n2}", f"catalogue number {l2[2:7].strip()} does not match line 1 ({l1[2:7].strip()})")
+            continue
+        try:
+            sat = Satrec.twoline2rv(l1, l2, WGS72)
+        except Exception as exc:  # the sgp4 parser raises ValueError on bad fields
+            problems.add(f"line {n1}", f"cannot read element set: {exc}")
+            continue
+        satrecs.append(sat)
+        names.append(name or l1[2:7].strip())
+    problems.raise_if_any()
+    if not satrecs:
+        raise InputError(f"{where}: no element sets found")
+    return Fleet(satrecs, names, [Path(where).name] * len(satrecs), f"TLE file {Path(where).name}")
+
+
+_OMM_DEFAULTS = {
+    "CLASSIFICATION_TYPE": "U", "OBJECT_ID": "0000-000A", "EPHEMERIS_TYPE": "0",
+    "ELEMENT_SET_NO": "999", "REV_AT_EPOCH": "0", "BSTAR": "0", "MEAN_MOTION_DOT": "0",
+    "MEAN_MOTION_DDOT": "0",
+}
+_OMM_REQUIRED = ("EPOCH", "MEAN_MOTION", "ECCENTRICITY", "INCLINATION", "RA_OF_ASC_NODE",
+                 "ARG_OF_PERICENTER", "MEAN_ANOMALY", "NORAD_CAT_ID")
+
+
+def parse_omm_records(records, where: str) -> Fleet:
+    """Element sets from OMM records (dicts of the CCSDS keyword names)."""
+    problems = Problems(where)
+    satrecs, names = [], []
+    for i, rec in enumerate(records):
+        fields = {k.strip().upper(): (str(v).strip() if v is not None else "") for k, v in rec.items() if k}
+        missing = [k for k in _OMM_REQUIRED if not fields.get(k)]
+        if missing:
+            problems.add(f"record {i + 1}", f"missing {', '.join(missing)}")
+            continue
+        for k, v in _OMM_DEFAULTS.items():
+            if not fields.get(k):
+                fields[k] = v
+        epoch = fields["EPOCH"].rstrip("Z")
+        if "." not in epoch:
+            epoch += ".0"
+        fields["EPOCH"] = epoch
+        sat = Satrec()
+        try:
+            from sgp4 import omm  # only OMM input needs it
+
+            omm.initialize(sat, fields)
+        except (ValueError, KeyError) as exc:
+            problems.add(f"record {i + 1}", f"cannot read element set: {exc}")
+            continue
+        satrecs.append(sat)
+        names.append(fields.get("OBJECT_NAME") or fields["NORAD_CAT_ID"])
+    problems.raise_if_any()
+    if not satrecs:
+        raise InputError(f"{where}: no element sets found")
+    return Fleet(satrecs, names, [Path(where).name] * len(satrecs), f"OMM file {Path(where).name}")
+
+
+def load_elements(path: str | Path) -> Fleet:
+    """A TLE or OMM file, told apart by content: XML, JSON, CSV with a header, or TLE."""
+    path = Path(path)
+    text = read_text(path, "element-set file")
+    head = text.lstrip()[:200]
+    where = str(path)
+    if head.startswith("<"):
+        try:
+            root = ET.fromstring(text)
+        except ET.ParseError as exc:
+            raise InputError(f"{where}: not valid OMM XML: {exc}") from None
+        records = []
+        for seg in root.iter("segment"):
+            rec = {}
+            for part in ("metadata", "data/meanElements", "data/tleParameters"):
+                node = seg.find(part)
+                if node is not None:
+                    rec.update((c.tag, c.text) for c in node)
+            records.append(rec)
+        return parse_omm_records(records, where)
+    if head.startswith("[") or head.startswith("{"):
+        try:
+            doc = json.loads(text)
+        except json.JSONDecodeError as exc:
+            raise InputError(f"{where}: line {exc.lineno}: not valid OMM JSON: {exc.msg}") from None
+        records = doc if isinstance(doc, list) else [doc]
+        if not all(isinstance(r, dict) for r in records):
+            raise InputError(f"{where}: OMM JSON must be an object or a list of objects")
+        return parse_omm_records(records, where)
+    if head.upper().startswith(("OBJECT_NAME", "CCSDS", "NORAD_CAT_ID", "EPOCH", "OBJECT_ID")) and "," in head:
+        return parse_omm_records(list(csv.DictReader(io.StringIO(text))), where)
+    return parse_tle(text, where)

@@ -1,0 +1,53 @@
+"""File helpers shared by every reader and writer."""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+
+from .errors import InputError
+
+
+def atomic_write_bytes(path: str | os.PathLike, data: bytes) -> None:
+    """Write ``data`` to ``path`` via a temp file in the same folder and a rename,
+    so a crash or a full disk never leaves a truncated file behind."""
+    path = Path(path)
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(f"{path}: folder {folder} does not exist")
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except FileNotFoundError:
+            pass
+        raise
+
+
+def atomic_write_text(path: str | os.PathLike, text: str) -> None:
+    atomic_write_bytes(path, text.encode("utf-8"))
+
+
+def read_text(path: str | os.PathLike, what: str = "file") -> str:
+    """Read a UTF-8 text file, turning OS and decoding failures into InputError."""
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except FileNotFoundError:
+        raise InputError(f"{path}: {what} not found") from None
+    except IsADirectoryError:
+        raise InputError(f"{path}: is a folder, expected a {what}") from None
+    except OSError as exc:
+        raise InputError(f"{path}: cannot read {what}: {exc.strerror}") from None
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw[: exc.start].count(b"\n") + 1
+        raise InputError(f"{path}: line {line}: not UTF-8 text (byte {exc.start})") from None

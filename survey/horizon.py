@@ -1,0 +1,240 @@
+"""Horizon profile: measured obstruction points and the continuous mask between them.
+
+The mask is piecewise-linear in azimuth between measured points, wrapping through
+360 degrees; with no points the sky is clear (mask 0 everywhere).  Azimuths here
+are degrees clockwise from *true* north; compass bearings are turned into true
+bearings by :func:`HorizonProfile.to_true` with the WMM declination.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+import numpy as np
+
+from .errors import InputError, Problems
+from .fileio import read_text
+
+
+@dataclass(frozen=True)
+class HorizonPoint:
+    """One measured obstruction top: bearing and elevation in degrees, optional
+    distance in metres (used by spot search) and a free-text label."""
+
+    azimuth_deg: float
+    elevation_deg: float
+    distance_m: float | None = None
+    label: str = ""
+
+
+@dataclass(frozen=True)
+class HorizonProfile:
+    """Measured points as typed, with the bearing reference they were taken in."""
+
+    points: tuple[HorizonPoint, ...] = ()
+    reference: str = "true"  # "true" | "magnetic"
+
+    def to_true(self, declination_deg: float) -> "HorizonProfile":
+        """Bearings referred to true north.  A compass bearing plus the (east
+        positive) declination is the true bearing; true bearings pass unchanged."""
+        if self.reference == "true":
+            return self
+        pts = tuple(
+            replace(p, azimuth_deg=(p.azimuth_deg + declination_deg) % 360.0) for p in self.points
+        )
+        return HorizonProfile(pts, "true")
+
+    def mask(self) -> "HorizonMask":
+        if self.reference != "true":
+            raise ValueError("convert compass bearings with to_true() before building a mask")
+        return HorizonMask.from_points(self.points)
+
+
+class HorizonMask:
+    """Obstruction elevation as a function of true azimuth (degrees).
+
+    Stored as knots sorted by azimuth; evaluation is linear interpolation with
+    wrap-around, vectorised over numpy arrays.
+    """
+
+    def __init__(self, az_deg: np.ndarray, el_deg: np.ndarray, labels: tuple[str, ...] = ()):
+        order = np.argsort(az_deg, kind="stable")
+        self.az_deg = np.asarray(az_deg, dtype=np.float64)[order]
+        self.el_deg = np.asarray(el_deg, dtype=np.float64)[order]
+        self.labels = tuple(labels[i] for i in order) if labels else ("",) * len(order)
+
+    @classmethod
+    def from_points(cls, points) -> "HorizonMask":
+        az = np.array([p.azimuth_deg % 360.0 for p in points], dtype=np.float64)
+        el = np.array([min(max(p.elevation_deg, 0.0), 90.0) for p in points], dtype=np.float64)
+        return cls(az, el, tuple(p.label for p in points))
+
+    @classmethod
+    def clear(cls) -> "HorizonMask":
+        return cls(np.zeros(0), np.zeros(0))
+
+    @property
+    def is_clear(self) -> bool:
+        return self.az_deg.size == 0 or not np.any(self.el_deg > 0)
+
+    def _knots(self) -> tuple[np.ndarray, np.ndarray]:
+        """Knots extended by one period either side so np.interp wraps through 360."""
+        az, el = self.az_deg, self.el_deg
+        return np.concatenate([az - 360.0, az, az + 360.0]), np.concatenate([el, el, el])
+
+    def elevation_at(self, azimuth_deg) -> np.ndarray:
+        """Mask elevation (degrees) at the given true azimuths (degrees)."""
+        a = np.asarray(azimuth_deg, dtype=np.float64) % 360.0
+        if self.az_deg.size == 0:
+            return np.zeros_like(a)
+        if self.az_deg.size == 1:
+            return np.full_like(a, self.el_deg[0])
+        xp, fp = self._knots()
+        return np.interp(a, xp, fp)
+
+    def sectors_above(self, threshold_deg: float) -> list[tuple[float, float]]:
+        """Maximal azimuth intervals (start, end), degrees, where the mask is above
+        ``threshold_deg``.  An interval may wrap (start > end); (0, 360) means all
+        round.  Computed exactly from the knots and the linear crossings."""
+        if self.az_deg.size == 0:
+            return []
+        if self.az_deg.size == 1 or np.all(self.el_deg > threshold_deg):
+            return [(0.0, 360.0)] if self.el_deg[0] > threshold_deg else []
+        # Walk one period of knots, from the first knot to the same knot + 360.
+        az = np.concatenate([self.az_deg, self.az_deg[:1] + 360.0])
+        el = np.concatenate([self.el_deg, self.el_deg[:1]])
+        runs: list[list[float]] = []
+        current: list[float] | None = None
+        for i in range(len(az) - 1):
+            a0, a1, e0, e1 = az[i], az[i + 1], el[i], el[i + 1]
+            above0, above1 = e0 > threshold_deg, e1 > threshold_deg
+            if above0 and current is None:
+                current = [a0, a0]
+            if above0 != above1 and e1 != e0:
+                cross = a0 + (threshold_deg - e0) / (e1 - e0) * (a1 - a0)
+                if above0:
+                    current[1] = cross
+                    runs.append(current)
+                    current = None
+                else:
+                    current = [cross, cross]
+            elif above0 and above1:
+                current[1] = a1
+        if current is not None:
+            runs.append(current)
+        # A run that ends at the period's end joins the one that starts at its start.
+        if len(runs) > 1 and runs[-1][1] >= az[-1] - 1e-9 and runs[0][0] <= az[0] + 1e-9:
+            last = runs.pop()
+            runs[0] = [last[0], runs[0][1] + 360.0]
+        return [(s % 360.0, e % 360.0 if e - s < 360.0 else (s % 360.0)) for s, e in runs]
+
+
+def in_sector(azimuth_deg: np.ndarray, start_deg: float, end_deg: float) -> np.ndarray:
+    """True where azimuths lie in [start, end), going clockwise, wrapping through 360."""
+    a = np.asarray(azimuth_deg) % 360.0
+    if end_deg == start_deg:  # all round
+        return np.ones(a.shape, dtype=bool)
+    width = (end_deg - start_deg) % 360.0
+    return ((a - start_deg) % 360.0) < width
+
+
+def parse_point(raw, where: str, problems: Problems) -> HorizonPoint | None:
+    """A point as typed in site.toml: [azimuth_deg, elevation_deg, (distance_m), (label)]."""
+    if not isinstance(raw, (list, tuple)) or len(raw) < 2 or len(raw) > 4:
+        problems.add(where, "expected [azimuth_deg, elevation_deg, (distance_m), (label)]")
+        return None
+    az, el = raw[0], raw[1]
+    dist = raw[2] if len(raw) >= 3 else None
+    label = raw[3] if len(raw) == 4 else ""
+    if len(raw) == 3 and isinstance(dist, str):  # [az, el, "label"] reads naturally too
+        dist, label = None, raw[2]
+    return _check_point(az, el, dist, label, where, problems)
+
+
+def _is_number(x) -> bool:
+    return isinstance(x, (int, float)) and not isinstance(x, bool) and np.isfinite(x)
+
+
+def _check_point(az, el, dist, label, where, problems: Problems) -> HorizonPoint | None:
+    ok = True
+    if not _is_number(az):
+        problems.add(where, f"azimuth must be a number of degrees, got {az!r}")
+        ok = False
+    if not _is_number(el):
+        problems.add(where, f"elevation must be a number of degrees, got {el!r}")
+        ok = False
+    elif not 0.0 <= el <= 90.0:
+        problems.add(where, f"elevation {el} is outside 0 to 90 degrees")
+        ok = False
+    if dist is not None and (not _is_number(dist) or dist <= 0):
+        problems.add(where, f"distance must be a positive number of metres, got {dist!r}")
+        ok = False
+    if not isinstance(label, str):
+        problems.add(where, f"label must be text, got {label!r}")
+        ok = False
+    if not ok:
+        return None
+    return HorizonPoint(float(az) % 360.0, float(el), None if dist is None else float(dist), label)
+
+
+def read_horizon_csv(path: str | Path) -> tuple[HorizonPoint, ...]:
+    """Read a horizon CSV: header ``azimuth_deg,elevation_deg`` with optional
+    ``distance_m`` and ``label`` columns; ``#`` starts a comment."""
+    path = Path(path)
+    text = read_text(path, "horizon CSV")
+    problems = Problems(str(path))
+    lines = []
+    for n, line in enumerate(text.splitlines(), start=1):
+        body = line.split("#", 1)[0].strip()
+        if body:
+            lines.append((n, body))
+    if not lines:
+        raise InputError(f"{path}: empty: expected a header azimuth_deg,elevation_deg")
+    header_line, header = lines[0]
+    cols = [c.strip() for c in next(csv.reader([header]))]
+    known = {"azimuth_deg", "elevation_deg", "distance_m", "label"}
+    for c in cols:
+        if c not in known:
+            problems.add(f"line {header_line}", f"unknown column {c!r} (expected {', '.join(sorted(known))})")
+    for need in ("azimuth_deg", "elevation_deg"):
+        if need not in cols:
+            problems.add(f"line {header_line}", f"missing column {need!r}")
+    problems.raise_if_any()
+    points = []
+    for n, body in lines[1:]:
+        row = next(csv.reader(io.StringIO(body)))
+        where = f"line {n}"
+        if len(row) != len(cols):
+            problems.add(where, f"expected {len(cols)} values ({','.join(cols)}), got {len(row)}")
+            continue
+        rec = dict(zip(cols, (v.strip() for v in row)))
+        vals = {}
+        for key in ("azimuth_deg", "elevation_deg", "distance_m"):
+            v = rec.get(key, "")
+            if key == "distance_m" and v == "":
+                vals[key] = None
+                continue
+            try:
+                vals[key] = float(v)
+            except ValueError:
+                vals[key] = v  # reported as not-a-number below
+        p = _check_point(vals["azimuth_deg"], vals["elevation_deg"], vals["distance_m"],
+                         rec.get("label", ""), f"{where}: {cols and 'point'}", problems)
+        if p is not None:
+            points.append(p)
+    problems.raise_if_any()
+    return tuple(points)
+
+
+def write_horizon_csv(points) -> str:
+    """The points as horizon CSV text (the format read_horizon_csv accepts)."""
+    out = io.StringIO()
+    w = csv.writer(out, lineterminator="\n")
+    w.writerow(["azimuth_deg", "elevation_deg", "distance_m", "label"])
+    for p in points:
+        w.writerow([f"{p.azimuth_deg:g}", f"{p.elevation_deg:g}",
+                    "" if p.distance_m is None else f"{p.distance_m:g}", p.label])
+    return out.getvalue()

@@ -1,0 +1,274 @@
+"""Site model: the ``site.toml`` file (TOML 1.0), validated at load.
+
+Every wrong value becomes one problem line naming the file and the field; all
+problems are reported together.  Relative paths in a site file resolve against
+the site file's folder.
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from dataclasses import dataclass, field
+from datetime import datetime, timezone
+from pathlib import Path
+
+from .errors import InputError, Problems
+from .fileio import read_text
+from .horizon import HorizonProfile, parse_point, read_horizon_csv
+
+MOUNT_KINDS = ("fixed", "vehicle", "marine")
+REFERENCES = ("true", "magnetic")
+
+
+@dataclass(frozen=True)
+class Mount:
+    kind: str = "fixed"  # fixed | vehicle | marine
+    height_m: float = 0.0  # antenna height above ground (or deck)
+
+
+@dataclass(frozen=True)
+class Terminal:
+    """The terminal's usable sky: above ``min_elevation_deg`` and, if
+    ``scan_half_angle_deg`` is set, within that cone around the boresight, which is
+    tilted ``tilt_deg`` from the zenith toward ``tilt_azimuth_deg`` (true)."""
+
+    min_elevation_deg: float = 25.0
+    tilt_deg: float = 0.0
+    tilt_azimuth_deg: float = 0.0
+    scan_half_angle_deg: float | None = None
+
+
+@dataclass(frozen=True)
+class Criteria:
+    """Verdict thresholds (fractions 0..1).  leosite's own defaults, chosen for a
+    residential broadband service; set your own to match the service agreement.
+
+    Each of blocked_fraction and interruption is graded against its pair of
+    limits (at or below ``qualified_*`` -> qualified, at or below ``marginal_*``
+    -> marginal, else not-qualified); the verdict is the worse of the two grades,
+    and not-qualified whenever availability is below ``min_availability``.
+    """
+
+    qualified_max_blocked: float = 0.03
+    marginal_max_blocked: float = 0.10
+    qualified_max_interruption: float = 0.01
+    marginal_max_interruption: float = 0.05
+    min_availability: float = 0.95
+
+
+@dataclass(frozen=True)
+class Schedule:
+    """Scheduling model: every ``reassign_s`` seconds the network assigns the
+    highest usable satellite, not knowing the local obstructions."""
+
+    reassign_s: float = 15.0
+
+
+@dataclass(frozen=True)
+class WindowSpec:
+    """Times ``start + k*step_s`` for k = 0..N-1, N = floor(hours*3600/step_s)."""
+
+    start: datetime
+    hours: float = 24.0
+    step_s: float = 15.0
+
+    @property
+    def count(self) -> int:
+        return int(math.floor(self.hours * 3600.0 / self.step_s + 1e-9))
+
+
+@dataclass(frozen=True)
+class Site:
+    name: str
+    latitude_deg: float
+    longitude_deg: float
+    elevation_m: float = 0.0
+    mount: Mount = Mount()
+    terminal: Terminal = Terminal()
+    horizon: HorizonProfile = HorizonProfile()
+    criteria: Criteria = Criteria()
+    schedule: Schedule = Schedule()
+    window: dict = field(default_factory=dict)  # the [window] table as typed (start/hours/step_s)
+    survey: dict = field(default_factory=dict)  # [survey]: surveyor, organisation, customer, notes
+    path: Path | None = None
+
+    @property
+    def antenna_height_m(self) -> float:
+        """Antenna height above the ellipsoid-ish ground datum: ground + mount."""
+        return self.elevation_m + self.mount.height_m
+
+
+def parse_time(text, where: str, problems: Problems) -> datetime | None:
+    """ISO 8601 UTC time, e.g. 2026-06-01T00:00:00Z (a date alone means 00:00 UTC)."""
+    if isinstance(text, datetime):
+        dt = text
+    elif isinstance(text, str):
+        try:
+            dt = datetime.fromisoformat(text.strip().replace("Z", "+00:00"))
+        except ValueError:
+            problems.add(where, f"expected an ISO 8601 UTC time like 2026-06-01T00:00:00Z, got {text!r}")
+            return None
+    else:
+        try:  # TOML local dates parse to datetime.date
+            dt = datetime(text.year, text.month, text.day)
+        except AttributeError:
+            problems.add(where, f"expected an ISO 8601 UTC time, got {text!r}")
+            return None
+    if dt.tzinfo is None:
+        dt = dt.replace(tzinfo=timezone.utc)
+    return dt.astimezone(timezone.utc)
+
+
+class _Table:
+    """Typed access to one TOML table, recording problems instead of raising."""
+
+    def __init__(self, data, name: str, problems: Problems, known: tuple[str, ...]):
+        self.name, self.problems = name, problems
+        if not isinstance(data, dict):
+            problems.add(name, "expected a table")
+            data = {}
+        self.data = data
+        for key in data:
+            if key not in known:
+                problems.add(f"{name}.{key}", f"unknown key (expected one of: {', '.join(known)})")
+
+    def number(self, key, default=None, lo=None, hi=None, required=False, positive=False):
+        field_name = f"{self.name}.{key}"
+        if key not in self.data:
+            if required:
+                self.problems.add(field_name, "missing")
+            return default
+        v = self.data[key]
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+            self.problems.add(field_name, f"expected a number, got {v!r}")
+            return default
+        if lo is not None and v < lo or hi is not None and v > hi:
+            self.problems.add(field_name, f"{v} is outside {lo} to {hi}")
+            return default
+        if positive and v <= 0:
+            self.problems.add(field_name, f"must be greater than 0, got {v}")
+            return default
+        return float(v)
+
+    def text(self, key, default="", required=False, choices=None):
+        field_name = f"{self.name}.{key}"
+        if key not in self.data:
+            if required:
+                self.problems.add(field_name, "missing")
+            return default
+        v = self.data[key]
+        if not isinstance(v, str):
+            self.problems.add(field_name, f"expected text, got {v!r}")
+            return default
+        if choices and v not in choices:
+            self.problems.add(field_name, f"{v!r} is not one of: {', '.join(choices)}")
+            return default
+        return v
+
+
+def load_site(path: str | Path) -> Site:
+    """Read and validate a site file; raises InputError listing every problem."""
+    path = Path(path)
+    text = read_text(path, "site file")
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{path}: not valid TOML: {exc}") from None
+    return site_from_dict(doc, path)
+
+
+def site_from_dict(doc: dict, path: Path) -> Site:
+    problems = Problems(str(path))
+    for key in doc:
+        if key not in ("site", "mount", "terminal", "horizon", "window", "criteria", "schedule", "survey"):
+            problems.add(key, "unknown table (expected site, mount, terminal, horizon, window, "
+                              "criteria, schedule, survey)")
+    if "site" not in doc:
+        problems.add("site", "missing table [site] with name, latitude, longitude")
+    s = _Table(doc.get("site", {}), "site", problems, ("name", "latitude", "longitude", "elevation_m"))
+    name = s.text("name", required=True) or path.stem
+    lat = s.number("latitude", 0.0, -90.0, 90.0, required=True)
+    lon = s.number("longitude", 0.0, -180.0, 180.0, required=True)
+    elev = s.number("elevation_m", 0.0, -500.0, 9000.0)
+
+    m = _Table(doc.get("mount", {}), "mount", problems, ("kind", "height_m"))
+    mount = Mount(m.text("kind", "fixed", choices=MOUNT_KINDS), m.number("height_m", 0.0, 0.0, 500.0))
+
+    t = _Table(doc.get("terminal", {}), "terminal", problems,
+               ("min_elevation_deg", "tilt_deg", "tilt_azimuth_deg", "scan_half_angle_deg"))
+    terminal = Terminal(
+        t.number("min_elevation_deg", 25.0, 0.0, 90.0),
+        t.number("tilt_deg", 0.0, 0.0, 90.0),
+        t.number("tilt_azimuth_deg", 0.0, 0.0, 360.0),
+        t.number("scan_half_angle_deg", None, 0.0, 180.0, positive=True),
+    )
+
+    h = _Table(doc.get("horizon", {}), "horizon", problems, ("reference", "points", "file"))
+    reference = h.text("reference", "true", choices=REFERENCES)
+    points = []
+    if "points" in h.data and "file" in h.data:
+        problems.add("horizon", "give either points or file, not both")
+    raw_points = h.data.get("points", [])
+    if not isinstance(raw_points, list):
+        problems.add("horizon.points", "expected a list of [azimuth_deg, elevation_deg, ...]")
+        raw_points = []
+    for i, raw in enumerate(raw_points):
+        p = parse_point(raw, f"horizon.points[{i}]", problems)
+        if p is not None:
+            points.append(p)
+    hfile = h.text("file", "")
+    if hfile:
+        try:
+            points.extend(read_horizon_csv(path.parent / hfile))
+        except InputError as exc:
+            problems.items.extend(exc.problems)
+
+    w = _Table(doc.get("window", {}), "window", problems, ("start", "hours", "step_s"))
+    window = {}
+    if "start" in w.data:
+        start = parse_time(w.data["start"], "window.start", problems)
+        if start is not None:
+            window["start"] = start
+    hours = w.number("hours", None, positive=True)
+    if hours is not None:
+        window["hours"] = hours
+    step = w.number("step_s", None, positive=True)
+    if step is not None:
+        window["step_s"] = step
+
+    names = ("qualified_max_blocked", "marginal_max_blocked", "qualified_max_interruption",
+             "marginal_max_interruption", "min_availability")
+    c = _Table(doc.get("criteria", {}), "criteria", problems, names)
+    criteria = Criteria(**{k: c.number(k, getattr(Criteria(), k), 0.0, 1.0) for k in names})
+    for what in ("blocked", "interruption"):
+        if getattr(criteria, f"marginal_max_{what}") < getattr(criteria, f"qualified_max_{what}"):
+            problems.add(f"criteria.marginal_max_{what}", f"must be at least criteria.qualified_max_{what}")
+
+    sc = _Table(doc.get("schedule", {}), "schedule", problems, ("reassign_s",))
+    schedule = Schedule(sc.number("reassign_s", Schedule().reassign_s, positive=True))
+
+    sv = _Table(doc.get("survey", {}), "survey", problems, ("surveyor", "organisation", "customer", "notes"))
+    survey = {k: sv.text(k) for k in ("surveyor", "organisation", "customer", "notes") if k in sv.data}
+
+    problems.raise_if_any()
+    return Site(name, lat, lon, elev, mount, terminal, HorizonProfile(tuple(points), reference),
+                criteria, schedule, window, survey, path)
+
+
+def resolve_window(site: Site, start: datetime | None = None, hours: float | None = None,
+                   step_s: float | None = None, now: datetime | None = None) -> WindowSpec:
+    """The window to assess: command-line values, else the site's [window], else
+    today 00:00 UTC for 24 h at 15 s."""
+    now = now or datetime.now(timezone.utc)
+    today = now.replace(hour=0, minute=0, second=0, microsecond=0)
+    spec = WindowSpec(
+        start or site.window.get("start") or today,
+        hours if hours is not None else site.window.get("hours", 24.0),
+        step_s if step_s is not None else site.window.get("step_s", 15.0),
+    )
+    if spec.count < 1:
+        raise InputError(f"window: {spec.hours} h at {spec.step_s} s steps holds no sample")
+    if spec.count > 2_000_000:
+        raise InputError(f"window: {spec.count} samples per satellite is too many; use a longer step or fewer hours")
+    return spec
