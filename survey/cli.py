@@ -123,12 +123,15 @@ def format_summary(run: SiteRun) -> str:
     lines.append(f"  outages        {o['count_per_day']:.1f} a day, {o['minutes_per_day']:.1f} min a day, "
                  f"longest {o['longest_s']:g} s")
     if a.sectors:
-        lines += ["", "  obstructions by cost          share of blocked   blocked if cleared"]
+        lines += ["", "  obstructions, costliest first",
+                  f"    {'azimuths':<17}  {'peak':>5}  {'share of blocked':>16}  {'blocked if cleared':>18}  labels"]
         for sec in a.sectors[:8]:
-            name = ", ".join(sec.labels) or "unnamed"
-            lines.append(f"    {sec.from_deg:5.1f}°–{sec.to_deg:5.1f}°  up to {sec.peak_elevation_deg:4.1f}°  "
-                         f"{name[:14]:<14} {100 * sec.blocked_share:5.1f} %     "
-                         f"{_pct(sec.blocked_fraction_if_cleared)}")
+            name = ", ".join(sec.labels) or "(unlabelled)"
+            if len(name) > 44:
+                name = name[:43] + "…"
+            span = f"{sec.from_deg:5.1f}° to {sec.to_deg:5.1f}°"
+            lines.append(f"    {span:<17}  {sec.peak_elevation_deg:4.1f}°  {100 * sec.blocked_share:14.1f} %  "
+                         f"{_pct(sec.blocked_fraction_if_cleared):>18}  {name}")
     if run.warnings:
         lines += ["", "  warnings"] + [f"    - {msg}" for msg in run.warnings]
     return "\n".join(lines)

@@ -266,6 +266,27 @@ _OMM_REQUIRED = ("EPOCH", "MEAN_MOTION", "ECCENTRICITY", "INCLINATION", "RA_OF_A
                  "ARG_OF_PERICENTER", "MEAN_ANOMALY", "NORAD_CAT_ID")
 
 
+def _omm_epoch(text: str) -> str | None:
+    """A CCSDS epoch (calendar or day-of-year form, any number of fractional
+    digits, optional Z) as the YYYY-MM-DDThh:mm:ss.ffffff text sgp4's OMM reader takes."""
+    text = text.strip().rstrip("Z")
+    whole, _, frac = text.partition(".")
+    if frac and not frac.isdigit():
+        return None
+    for fmt in ("%Y-%m-%dT%H:%M:%S", "%Y-%jT%H:%M:%S"):
+        try:
+            dt = datetime.strptime(whole, fmt)
+            break
+        except ValueError:
+            continue
+    else:
+        return None
+    # Round the fraction to microseconds (SGP4 epochs carry no more).
+    micro = round(float("0." + frac) * 1e6) if frac else 0
+    dt += timedelta(microseconds=micro)
+    return dt.strftime("%Y-%m-%dT%H:%M:%S.%f")
+
+
 def parse_omm_records(records, where: str) -> Fleet:
     """Element sets from OMM records (dicts of the CCSDS keyword names)."""
     problems = Problems(where)
@@ -279,9 +300,11 @@ def parse_omm_records(records, where: str) -> Fleet:
         for k, v in _OMM_DEFAULTS.items():
             if not fields.get(k):
                 fields[k] = v
-        epoch = fields["EPOCH"].rstrip("Z")
-        if "." not in epoch:
-            epoch += ".0"
+        epoch = _omm_epoch(fields["EPOCH"])
+        if epoch is None:
+            problems.add(f"record {i + 1}", f"EPOCH {fields['EPOCH']!r} is not a CCSDS time "
+                                            "(YYYY-MM-DDThh:mm:ss[.fff] or YYYY-DDDThh:mm:ss[.fff])")
+            continue
         fields["EPOCH"] = epoch
         sat = Satrec()
         try:
@@ -310,6 +333,9 @@ def load_elements(path: str | Path) -> Fleet:
             root = ET.fromstring(text)
         except ET.ParseError as exc:
             raise InputError(f"{where}: not valid OMM XML: {exc}") from None
+        for node in root.iter():  # drop XML namespaces: the keywords are what count
+            if isinstance(node.tag, str) and "}" in node.tag:
+                node.tag = node.tag.split("}", 1)[1]
         records = []
         for seg in root.iter("segment"):
             rec = {}

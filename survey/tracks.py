@@ -320,7 +320,9 @@ def compute_tracks(fleet: Fleet, observer: Observer, window: WindowSpec, termina
             cand_first.append(g[bj][ii] + offs[ii, kk])
             cand_last.append(g[bj][ii] + offs[ii, kk + 1])
         report(0.5 * (ci + 1) / n_chunks)
-    if cand_sat:
+    if n_time == 1:  # a snapshot: no interval to cull, every satellite is one run
+        rs, rf, rl = np.arange(S), np.zeros(S, dtype=np.int64), np.zeros(S, dtype=np.int64)
+    elif cand_sat:
         rs, rf, rl = _runs_from_intervals(np.concatenate(cand_sat), np.concatenate(cand_first),
                                           np.concatenate(cand_last))
     else:
@@ -335,7 +337,9 @@ def compute_tracks(fleet: Fleet, observer: Observer, window: WindowSpec, termina
 
     # Cull again with exact SGP4 states on the ~60 s nodes (no Hermite margin):
     # keep the node intervals whose psi lower bound reaches the cap.
-    if ns.size > 1:
+    if n_time == 1:
+        pass
+    elif ns.size > 1:
         psi_c = _psi_teme(rc, site_teme[ni])
         same = nrun[1:] == nrun[:-1]
         lower = (psi_c[1:] + psi_c[:-1] - omega[ns[1:]] * (ni[1:] - ni[:-1]) * step) * 0.5
