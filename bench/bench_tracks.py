@@ -16,7 +16,6 @@ from __future__ import annotations
 import argparse
 import json
 import platform
-import resource
 import subprocess
 import sys
 import time
@@ -49,6 +48,25 @@ def skyfield_loop(fleet, site, window):
         keep = np.flatnonzero(alt.degrees >= site.terminal.min_elevation_deg)
         out.append((i, keep, alt.degrees[keep], az.degrees[keep]))
     return out
+
+
+def peak_memory_mb(site: str) -> float:
+    """Peak resident memory of one ``leosite assess --json`` process, read from
+    its own /proc/self/status (VmHWM) at exit.  (getrusage of a child would also
+    count the benchmark's own memory, inherited by fork before exec.)"""
+    probe = ("import atexit, runpy, sys\n"
+             "def hwm():\n"
+             "    for line in open('/proc/self/status'):\n"
+             "        if line.startswith('VmHWM:'):\n"
+             "            sys.stderr.write('\\n' + line)\n"
+             "atexit.register(hwm)\n"
+             f"sys.argv = ['leosite', 'assess', {site!r}, '--json']\n"
+             "runpy.run_module('survey.cli', run_name='__main__')\n")
+    proc = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True, cwd=ROOT)
+    for line in proc.stderr.splitlines():
+        if line.startswith("VmHWM:"):
+            return int(line.split()[1]) / 1024.0
+    return float("nan")
 
 
 def main() -> int:
@@ -101,7 +119,7 @@ def main() -> int:
             return 1
         json.loads(proc.stdout)
     t_cli = min(runs)
-    peak_mb = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024.0
+    peak_mb = peak_memory_mb(args.site)
 
     mask = HorizonMask.from_points([HorizonPoint(a, 20.0 + 15.0 * np.sin(np.radians(a) * 3)) for a in range(0, 360, 10)])
     t0 = time.perf_counter()

@@ -181,3 +181,45 @@ def test_console_script_runs_offline_without_traceback(tmp_path):
     assert badrun.returncode == 2
     assert badrun.stderr == "leosite: nope.toml: site file not found\n"
     assert (ROOT / "survey").is_dir()
+
+
+def _tle_file(tmp_path, epoch_days_before: float):
+    """A valid three-line element set (exported by sgp4's own exporter) whose epoch
+    lies the given number of days before 2026-06-01."""
+    import math
+
+    from sgp4.api import WGS72, Satrec
+    from sgp4.exporter import export_tle
+
+    sat = Satrec()
+    jd_window = 2461192.5  # 2026-06-01 00:00 UTC (JD, from the calendar algorithm)
+    sat.sgp4init(WGS72, "i", 90001, jd_window - epoch_days_before - 2433281.5, 2.0e-5, 0.0, 0.0, 0.0001,
+                 0.0, math.radians(53.0), 0.0, 15.05 * 2 * math.pi / 1440.0, math.radians(40.0))
+    l1, l2 = export_tle(sat)
+    p = tmp_path / "fleet.tle"
+    p.write_text(f"TEST SAT A\n{l1}\n{l2}\n")
+    return p
+
+
+def test_tle_run_and_stale_elements_warning(write_site, tmp_path, capsys):
+    site = write_site(MINIMAL_SITE)
+    fresh = _tle_file(tmp_path, 2.0)
+    code, out, err = run(["assess", str(site), "--tle", str(fresh), "--json", "--start", "2026-06-01T00:00:00Z",
+                          *FAST], capsys)
+    assert code == 0, err
+    d = json.loads(out)
+    assert d["satellites"] == 1 and d["fleet"]["source"] == "TLE file fleet.tle"
+    assert not any("older than" in w for w in d["warnings"])
+    stale = _tle_file(tmp_path, 30.0)
+    code, out, _ = run(["assess", str(site), "--tle", str(stale), "--json", "--start", "2026-06-01T00:00:00Z",
+                        *FAST], capsys)
+    d = json.loads(out)
+    # Common practice: elements older than about two weeks are too stale for planning.
+    assert any("1 of 1 element sets are older than 14 days" in w and "oldest 30 days" in w for w in d["warnings"])
+
+
+def test_compass_warning_outside_wmm_validity(write_site, capsys):
+    site = write_site(MINIMAL_SITE + '\n[horizon]\nreference = "magnetic"\npoints = [[10, 20]]\n')
+    code, out, _ = run(["assess", str(site), "--json", "--start", "2031-03-01T00:00:00Z", *FAST], capsys)
+    d = json.loads(out)
+    assert code == 0 and any("outside the WMM2025 validity" in w for w in d["warnings"])
