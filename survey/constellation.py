@@ -13,7 +13,6 @@ import io
 import json
 import math
 import tomllib
-import xml.etree.ElementTree as ET
 from dataclasses import dataclass
 from datetime import datetime, timedelta, timezone
 from importlib import resources
@@ -329,6 +328,8 @@ def load_elements(path: str | Path) -> Fleet:
     head = text.lstrip()[:200]
     where = str(path)
     if head.startswith("<"):
+        import xml.etree.ElementTree as ET  # only OMM XML needs it
+
         try:
             root = ET.fromstring(text)
         except ET.ParseError as exc:

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import os
-import tempfile
 from pathlib import Path
 
 from .errors import InputError
@@ -12,6 +11,8 @@ from .errors import InputError
 def atomic_write_bytes(path: str | os.PathLike, data: bytes) -> None:
     """Write ``data`` to ``path`` via a temp file in the same folder and a rename,
     so a crash or a full disk never leaves a truncated file behind."""
+    import tempfile  # only writers need it; keeps start-up short for reads
+
     path = Path(path)
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():

@@ -222,7 +222,7 @@ def read_horizon_csv(path: str | Path) -> tuple[HorizonPoint, ...]:
             except ValueError:
                 vals[key] = v  # reported as not-a-number below
         p = _check_point(vals["azimuth_deg"], vals["elevation_deg"], vals["distance_m"],
-                         rec.get("label", ""), f"{where}: {cols and 'point'}", problems)
+                         rec.get("label", ""), where, problems)
         if p is not None:
             points.append(p)
     problems.raise_if_any()

@@ -7,13 +7,17 @@ skyfield does with its builtin timescale; the observer is a WGS84 geodetic point
 (skyfield ``wgs84``).  Azimuth and elevation are in the local geodetic frame
 (east, north, up), without refraction.
 
-Speed comes from culling, not from a faster propagator.  The angle psi between the
-observer's geocentric direction and a satellite changes no faster than the
-satellite's angular rate plus the Earth's spin, so a coarse pass over all
-satellites bounds psi between samples; only intervals whose bound can reach the
-visibility cap (Earth central angle of coverage at the minimum elevation) are
-refined, level by level, down to the user's step.  The work grows with the
-samples near visibility, not with all samples.
+Speed comes from culling, not from a faster propagator.  The central angle psi
+between the observer's geocentric direction and a satellite changes no faster
+than the satellite's angular rate plus the Earth's spin, and a satellite can be
+above the minimum elevation only while psi is inside the Earth central angle of
+coverage.  So: (A) SGP4 for every satellite on coarse nodes ~20 min apart;
+(B) cubic Hermite interpolation of those states on a ~2 min grid, culled with
+the psi bound widened by the Hermite error bound; (C) SGP4 on a ~1 min grid only
+where a satellite may be visible, culled again exactly; (D) Hermite
+interpolation of the 1-min SGP4 states onto the user's step (error well below a
+metre in LEO) and exact topocentric geometry.  The work grows with the samples
+near visibility, not with all samples.
 """
 
 from __future__ import annotations
@@ -104,12 +108,14 @@ def sample_times(window: WindowSpec):
     start = window.start.astimezone(timezone.utc)
     t = ts.utc(start.year, start.month, start.day, start.hour, start.minute,
                start.second + start.microsecond * 1e-6 + offs)
-    # SGP4 takes UTC Julian dates, as skyfield passes them (whole, tai - leap).
-    whole = t.whole
-    frac_utc = t.tai_fraction - t._leap_seconds() / 86400.0
     theta, _ = theta_GMST1982(t.whole, t.ut1_fraction)
-    return np.broadcast_to(whole, (n,)).astype(np.float64), np.asarray(frac_utc, dtype=np.float64), \
-        np.asarray(theta, dtype=np.float64)
+    # SGP4 takes UTC Julian dates (element-set epochs are UTC), as skyfield
+    # passes them: split into a whole day and a fraction for precision.
+    j2000 = datetime(2000, 1, 1, 12, tzinfo=timezone.utc)
+    jd0 = 2451545.0 + (start - j2000).total_seconds() / 86400.0
+    whole0 = math.floor(jd0 - 0.5) + 0.5
+    frac = (jd0 - whole0) + offs / 86400.0
+    return np.full(n, whole0), frac, np.broadcast_to(np.asarray(theta, dtype=np.float64), (n,)).copy()
 
 
 def observer_frame(obs: Observer):

@@ -223,3 +223,35 @@ def test_compass_warning_outside_wmm_validity(write_site, capsys):
     code, out, _ = run(["assess", str(site), "--json", "--start", "2031-03-01T00:00:00Z", *FAST], capsys)
     d = json.loads(out)
     assert code == 0 and any("outside the WMM2025 validity" in w for w in d["warnings"])
+
+
+from .test_site_input import BAD_CASES, HORIZON_CASES  # noqa: E402
+
+
+@pytest.mark.parametrize("desc,change,fragments", BAD_CASES, ids=[c[0] for c in BAD_CASES])
+def test_every_bad_site_value_exits_2_with_one_line(desc, change, fragments, write_site, capsys, tmp_path):
+    site = write_site(MINIMAL_SITE.replace(*change))
+    lines = bad(["assess", str(site)], capsys, tmp_path)
+    assert len(lines) == 1 and lines[0].startswith(f"leosite: {site}: ")
+    assert all(f in lines[0] for f in fragments)
+
+
+@pytest.mark.parametrize("table,fragments", HORIZON_CASES)
+def test_every_bad_horizon_exits_2_with_one_line(table, fragments, write_site, capsys, tmp_path):
+    site = write_site(MINIMAL_SITE + "\n[horizon]\n" + table + "\n")
+    lines = bad(["assess", str(site)], capsys, tmp_path)
+    assert len(lines) == 1 and all(f in lines[0] for f in fragments)
+
+
+def test_non_utf8_site_exits_2(tmp_path, capsys):
+    site = tmp_path / "site.toml"
+    site.write_bytes(b'[site]\nname = "Caf\xe9"\n')
+    lines = bad(["assess", str(site)], capsys, tmp_path)
+    assert lines == [f"leosite: {site}: line 2: not UTF-8 text (byte 18)"]
+
+
+def test_bad_horizon_csv_exits_2(write_site, tmp_path, capsys):
+    (tmp_path / "h.csv").write_text("azimuth_deg,elevation_deg\n10,20\n30,95\n")
+    site = write_site(MINIMAL_SITE + '\n[horizon]\nfile = "h.csv"\n')
+    lines = bad(["assess", str(site)], capsys, tmp_path)
+    assert lines == [f"leosite: {tmp_path / 'h.csv'}: line 3: elevation 95.0 is outside 0 to 90 degrees"]

@@ -292,3 +292,16 @@ def test_one_sample_window_matches_skyfield():
     window = WindowSpec(FLEET_EPOCH, 15.0 / 3600.0, 15.0)
     assert window.count == 1
     compare(fleet, np.arange(len(fleet)), SITES["south"], window, Terminal(min_elevation_deg=25.0), min_common=3)
+
+
+def test_builtin_timescale_matches_skyfield_loader():
+    """survey.tracks builds skyfield's builtin timescale without its download
+    machinery; it must be the same timescale as load.timescale(builtin=True)."""
+    from survey.tracks import builtin_timescale
+
+    ours, theirs = builtin_timescale(), load.timescale(builtin=True)
+    secs = np.arange(0.0, 86400.0 * 3650, 86400.0 * 7)  # ten years, weekly
+    a, b = ours.utc(2020, 1, 1, 0, 0, secs), theirs.utc(2020, 1, 1, 0, 0, secs)
+    assert np.array_equal(a.whole, b.whole)
+    assert np.array_equal(a.tai_fraction, b.tai_fraction)
+    assert np.array_equal(a.ut1_fraction, b.ut1_fraction)
