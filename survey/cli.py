@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+import textwrap
 import time
 from pathlib import Path
 
@@ -16,6 +17,7 @@ from . import __version__
 from .errors import InputError, Problems
 from .fileio import atomic_write_bytes
 from .pipeline import FleetChoice, SiteRun, result_dict, run_site
+from .safety import short_note
 from .site import load_site, parse_time
 
 
@@ -95,46 +97,60 @@ def _pct(x) -> str:
 
 
 def format_summary(run: SiteRun) -> str:
+    """The human summary, fitted to an 80-column terminal."""
     d = result_dict(run)
     s, w, a = run.site, run.window, run.assessment
     ns = "N" if s.latitude_deg >= 0 else "S"
     ew = "E" if s.longitude_deg >= 0 else "W"
     groups = ", ".join(f"{k} {v}" for k, v in run.fleet.groups.items())
+    sky = f"above {s.terminal.min_elevation_deg:g}°"
+    if s.terminal.scan_half_angle_deg:
+        sky += (f", within {s.terminal.scan_half_angle_deg:g}° of a boresight tilted "
+                f"{s.terminal.tilt_deg:g}° toward {s.terminal.tilt_azimuth_deg:g}°")
     lines = [
         f"{s.name}",
         f"  at {abs(s.latitude_deg):.5f}°{ns} {abs(s.longitude_deg):.5f}°{ew}, ground {s.elevation_m:g} m, "
         f"{s.mount.kind} mount {s.mount.height_m:g} m up",
-        f"  window     {d['window']['start']} for {w.hours:g} h at {w.step_s:g} s ({w.count} samples)",
-        f"  satellites {len(run.fleet)} ({groups}){'  [illustrative]' if run.fleet.illustrative else ''}",
-        f"  sky        usable above {s.terminal.min_elevation_deg:g}°"
-        + (f" within {s.terminal.scan_half_angle_deg:g}° of a boresight tilted {s.terminal.tilt_deg:g}° "
-           f"toward {s.terminal.tilt_azimuth_deg:g}°" if s.terminal.scan_half_angle_deg else "")
-        + f"; {a.usable_samples} usable samples",
-        f"  compass    declination {run.declination.declination_deg:+.2f}° (WMM2025); horizon bearings "
-        + ("magnetic, rotated to true" if s.horizon.reference == "magnetic" else "true"),
+        f"  window      {d['window']['start']}, {w.hours:g} h at {w.step_s:g} s ({w.count} samples)",
+        f"  satellites  {len(run.fleet)}: {groups}" + ("  [illustrative]" if run.fleet.illustrative else ""),
+        f"  usable sky  {sky}; {a.usable_samples} samples",
+        f"  compass     declination {run.declination.declination_deg:+.2f}° (WMM2025); bearings "
+        + ("magnetic, turned to true" if s.horizon.reference == "magnetic" else "true"),
         "",
-        f"  verdict        {a.verdict.upper()}: {a.verdict_reason}",
-        f"  blocked        {_pct(a.blocked_fraction)} of usable sky samples",
-        f"  availability   {_pct(a.availability)} of the time an unblocked satellite is in view",
-        f"  interruption   {_pct(a.interruption)} of the time down (reassignment every "
-        f"{s.schedule.reassign_s:g} s)",
+        f"  VERDICT  {a.verdict.upper()}",
     ]
+    lines += _wrap(a.verdict_reason, "           ")
     o = d["outages"]
-    lines.append(f"  outages        {o['count_per_day']:.1f} a day, {o['minutes_per_day']:.1f} min a day, "
-                 f"longest {o['longest_s']:g} s")
+    lines += [
+        "",
+        f"  blocked        {_pct(a.blocked_fraction):>9}  of usable sky samples",
+        f"  availability   {_pct(a.availability):>9}  of the time an unblocked satellite is in view",
+        f"  interruption   {_pct(a.interruption):>9}  of the time down (reassigned every {s.schedule.reassign_s:g} s)",
+        f"  outages        {o['count_per_day']:.1f} a day, {o['minutes_per_day']:.1f} min a day, "
+        f"longest {o['longest_s']:g} s",
+    ]
     if a.sectors:
         lines += ["", "  obstructions, costliest first",
-                  f"    {'azimuths':<17}  {'peak':>5}  {'share of blocked':>16}  {'blocked if cleared':>18}  labels"]
+                  f"    {'azimuths':<16} {'peak':>5} {'share':>7} {'if cleared':>10}  labels"]
         for sec in a.sectors[:8]:
             name = ", ".join(sec.labels) or "(unlabelled)"
-            if len(name) > 44:
-                name = name[:43] + "…"
-            span = f"{sec.from_deg:5.1f}° to {sec.to_deg:5.1f}°"
-            lines.append(f"    {span:<17}  {sec.peak_elevation_deg:4.1f}°  {100 * sec.blocked_share:14.1f} %  "
-                         f"{_pct(sec.blocked_fraction_if_cleared):>18}  {name}")
+            if len(name) > 30:
+                name = name[:29] + "…"
+            span = f"{sec.from_deg:5.1f}°-{sec.to_deg:5.1f}°"
+            lines.append(f"    {span:<16} {sec.peak_elevation_deg:4.1f}° {100 * sec.blocked_share:5.1f} % "
+                         f"{_pct(sec.blocked_fraction_if_cleared):>10}  {name}")
+        lines.append("    (share of the blocked samples; blocked fraction if that sector were clear)")
     if run.warnings:
-        lines += ["", "  warnings"] + [f"    - {msg}" for msg in run.warnings]
+        lines += ["", "  warnings"]
+        for msg in run.warnings:
+            lines += _wrap(msg, "    - ", "      ")
+    lines += [""] + _wrap(short_note(s.mount.kind), "  ")
     return "\n".join(lines)
+
+
+def _wrap(text: str, first: str, rest: str | None = None, width: int = 80) -> list[str]:
+    return textwrap.wrap(text, width=width, initial_indent=first,
+                         subsequent_indent=first if rest is None else rest) or [first]
 
 
 def cmd_assess(args) -> int:

@@ -46,8 +46,8 @@ def test_json_has_the_contract_keys(capsys):
 def test_summary_names_every_figure(capsys):
     code, out, err = run(["assess", str(DEMO / "mill-lane-terrace/site.toml"), *FAST], capsys)
     assert code == 0
-    for word in ("Mill Lane terrace", "verdict", "blocked", "availability", "interruption", "outages",
-                 "obstructions, costliest first", "old mill", "declination", "illustrative"):
+    for word in ("Mill Lane terrace", "VERDICT", "blocked", "availability", "interruption", "outages",
+                 "obstructions, costliest first", "old mill", "declination", "illustrative", "Safety:"):
         assert word in out
     assert "propagating" in err  # the progress line goes to stderr, not stdout
 

@@ -1,0 +1,47 @@
+"""Safety notes shown with every assessment, report and in the text UI.
+
+Plain cautions for the work a survey leads to.  They defer to local codes, the
+building or vessel owner and licensed practice; figures marked common practice
+are rules of thumb of the trade, not law.
+"""
+
+from __future__ import annotations
+
+FIXED = (
+    "Roof, ladder and mast work can kill. Use fall protection on any roof and never work on one alone.",
+    "Set ladders at about 1 in 4 (75 degrees) on firm, level footing, tied off, reaching about 1 m "
+    "above the landing (common practice).",
+    "Keep yourself, ladders, masts and cables at least 3 m (10 ft) from overhead power lines, more where "
+    "local rules say so (common practice); treat every line as live.",
+    "Stop in wind, rain, ice or lightning; a wet or mossy roof is a slip hazard.",
+    "Ground and bond masts and cable shields and fit surge protection as your electrical code requires.",
+    "Local building and electrical codes, the owner's rules and licensed trades come first.",
+)
+VEHICLE = (
+    "Check the roof or rack load rating and secure the mount for highway speeds.",
+    "Note the new vehicle height for bridges, car parks and garages.",
+    "Never mount or adjust a terminal while the vehicle is moving; route cables away from airbags.",
+)
+MARINE = (
+    "Keep the terminal out of radar beams and clear of the compass safe distance.",
+    "Mount on a rail or mast rated for the sea state; use a harness aloft and never go aloft alone.",
+    "Use marine-rated cable, bonding and through-deck fittings; follow the vessel's electrical standard.",
+)
+
+
+def notes_for(kind: str) -> tuple[str, ...]:
+    """The safety lines for a mount kind (fixed | vehicle | marine)."""
+    extra = {"vehicle": VEHICLE, "marine": MARINE}.get(kind, ())
+    return FIXED + extra
+
+
+def short_note(kind: str) -> str:
+    """One line for places with no room for the full note."""
+    if kind == "vehicle":
+        return ("Safety: check roof load and clearance height; never adjust while moving; "
+                "3 m from power lines.")
+    if kind == "marine":
+        return ("Safety: clear of radar beams and the compass safe distance; harness aloft; "
+                "3 m from power lines.")
+    return ("Safety: fall protection on roofs, ladder at 1 in 4, 3 m from power lines, never alone; "
+            "local codes first.")
