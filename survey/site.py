@@ -95,7 +95,9 @@ class Site:
 
     @property
     def antenna_height_m(self) -> float:
-        """Antenna height above the ellipsoid-ish ground datum: ground + mount."""
+        """Antenna height: ground elevation plus mount height, metres.  Used as the
+        height above the WGS84 ellipsoid; the geoid separation (within about
+        +-100 m) moves a LEO satellite's elevation by well under 0.01 degrees."""
         return self.elevation_m + self.mount.height_m
 
 
