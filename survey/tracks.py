@@ -163,8 +163,8 @@ def hermite_error_rad(omega_rad_s: np.ndarray, tau_s: float) -> np.ndarray:
     """Bound on the central-angle error of cubic Hermite interpolation of an orbit
     sampled every tau_s seconds.  The fourth derivative of each position component
     of a circular orbit is at most omega^4 r, so the remainder is at most
-    r (omega tau)^4 / 384 (Hermite error term, Burden & Faires, Numerical
-    Analysis); x sqrt(3) for three components, x 2 for SGP4's short-period terms
+    r (omega tau)^4 / 384 (the Hermite error term; e.g. Burden & Faires,
+    Numerical Analysis, cited from memory); x sqrt(3) for three components, x 2 for SGP4's short-period terms
     and eccentric orbits near perigee."""
     return 2.0 * math.sqrt(3.0) * (omega_rad_s * tau_s) ** 4 / 384.0
 
@@ -235,75 +235,63 @@ def _psi_teme(p_teme: np.ndarray, site_dir_teme: np.ndarray) -> np.ndarray:
     return np.arccos(np.clip(dot / np.sqrt(np.einsum("...i,...i->...", p_teme, p_teme)), -1.0, 1.0))
 
 
-def compute_tracks(fleet: Fleet, observer: Observer, window: WindowSpec, terminal: Terminal,
-                   progress=None) -> SkyTracks:
-    """Usable-sky samples of every satellite in ``fleet`` over ``window``.
+@dataclass(frozen=True)
+class _Bounds:
+    """Per-satellite culling bounds: omega (rad/s) bounds how fast the central
+    angle psi can change; cap (rad) is the largest psi at which the satellite can
+    stand above the minimum elevation."""
 
-    Four passes (see the module notes): (A) SGP4 for every satellite on coarse
-    nodes; (B) cubic Hermite interpolation of those states onto a ~60 s grid,
-    culling by the central-angle bound; (C) SGP4 on the ~60 s grid where a
-    satellite may be visible; (D) Hermite interpolation of (C) onto the user's
-    step (error well below a metre for LEO) and exact topocentric geometry.
+    omega: np.ndarray
+    cap: np.ndarray
 
-    ``progress``, if given, is called with a fraction 0..1 as work completes."""
-    n_time, step = window.count, window.step_s
-    jd, fr, theta = sample_times(window)
-    site, enu = observer_frame(observer)
-    site_r = float(np.linalg.norm(site))
-    # The site's direction in TEME at every sample: ITRS -> TEME is rot_z(-theta).
-    c, sn = np.cos(theta), np.sin(theta)
-    u0, u1, u2 = site / site_r
-    site_teme = np.stack([c * u0 - sn * u1, sn * u0 + c * u1, np.full_like(c, u2)], axis=1)
-    site_teme32 = site_teme.astype(np.float32)
-    satrecs = fleet.satrecs
-    S = len(fleet)
-    report = progress or (lambda f: None)
 
-    n_rad_s = np.array([s.no_kozai for s in satrecs]) / 60.0
-    ecc = np.clip(np.array([s.ecco for s in satrecs]), 0.0, 0.99)
+def _bounds(fleet: Fleet, terminal: Terminal, site_radius_km: float) -> _Bounds:
+    n_rad_s = np.array([s.no_kozai for s in fleet.satrecs]) / 60.0
+    ecc = np.clip(np.array([s.ecco for s in fleet.satrecs]), 0.0, 0.99)
     a_km = (MU_KM3_S2 / np.maximum(n_rad_s, 1e-9) ** 2) ** (1.0 / 3.0)
     # Keplerian angular rate peaks at perigee: n (1+e)^2 / (1-e^2)^1.5; +5% for
     # SGP4's short-period terms; plus the Earth's spin (the site moves under it).
     omega = 1.05 * n_rad_s * (1 + ecc) ** 2 / (1 - ecc**2) ** 1.5 + EARTH_SPIN_RAD_S
     # 0.5 deg of margin covers geodetic vs geocentric vertical (< 0.2 deg) and
     # the ellipsoid's radius change; the cap uses the orbit's highest radius.
-    cap = coverage_angle_rad(max(terminal.min_elevation_deg - 0.5, 0.0), site_r * 0.998,
+    cap = coverage_angle_rad(max(terminal.min_elevation_deg - 0.5, 0.0), site_radius_km * 0.998,
                              a_km * (1 + ecc) * 1.01) + math.radians(0.5)
+    return _Bounds(omega, cap)
 
-    # Grid factors in samples: f1 ~ 60 s for the SGP4 nodes of (C); fb = 2 f1 for
-    # the interpolated culling grid of (B); f0 a multiple of fb spanning at most
-    # 1.5 rad of orbit arc (so the Hermite bound stays a few degrees) and 24 min.
-    f1 = max(1, int(round(60.0 / step)))
-    fb = 2 * f1
-    omega_max = float(omega.max()) if S else EARTH_SPIN_RAD_S
-    f0 = fb * max(1, int(min(1440.0, 1.5 / omega_max) // (fb * step)))
-    limit = cap + hermite_error_rad(omega, f0 * step)
 
+def _lower_bound(psi_a, psi_b, omega, tau_s):
+    """Least psi possible between two samples tau_s apart: psi moves at most
+    omega rad/s, so it cannot dip below (psi_a + psi_b - omega tau) / 2."""
+    return (psi_a + psi_b - omega * tau_s) * 0.5
+
+
+def _cull_coarse(fleet, bounds, jd, fr, site_teme, step, f0, fb, report):
+    """Passes (A) and (B): candidate [first, last] sample-index runs per satellite."""
+    S, n_time = len(fleet), jd.size
+    limit = bounds.cap + hermite_error_rad(bounds.omega, f0 * step)  # for interpolated psi
+    site_teme32 = site_teme.astype(np.float32)
     nodes = np.arange(0, n_time, f0)
     if nodes[-1] != n_time - 1:
         nodes = np.append(nodes, n_time - 1)
-    per_chunk = max(2, CHUNK_POINTS // max(S * (f0 // f1 + 1), 1))
+    per_chunk = max(2, CHUNK_POINTS // max(S * (f0 // fb + 1), 1))
     n_chunks = max(1, math.ceil((nodes.size - 1) / per_chunk))
     sub = np.arange(0, f0 + 1, fb)  # sub-grid offsets inside one coarse interval
+    arr = SatrecArray(fleet.satrecs)
     evaluations = 0
     failed = np.zeros(S, dtype=bool)
     cand_sat, cand_first, cand_last = [], [], []
-    arr = SatrecArray(satrecs) if S else None
-    for ci in range(n_chunks if S and n_time > 1 else 0):
+    for ci in range(n_chunks):
         # (A) every satellite on this chunk's coarse nodes.
         g = nodes[ci * per_chunk: (ci + 1) * per_chunk + 1]
         err, r, v = arr.sgp4(jd[g], fr[g])
         evaluations += r.shape[0] * r.shape[1]
         failed |= np.any(err != 0, axis=1)
         psi = _psi_teme(r, site_teme[g][None, :, :])
-        # psi can dip below its endpoint values by at most omega*tau/2 in between.
-        tau_j = (g[1:] - g[:-1]) * step
-        lower = (psi[:, 1:] + psi[:, :-1] - omega[:, None] * tau_j[None, :]) * 0.5
-        ks, kj = np.nonzero(lower <= limit[:, None])
-        if ks.size == 0:
-            continue
-        # (B) Hermite onto the ~60 s sub-grid of each such interval, broadcast
-        # as (interval, sub-point, xyz), in cache-sized blocks and in float32
+        tau_j = ((g[1:] - g[:-1]) * step)[None, :]
+        ks, kj = np.nonzero(_lower_bound(psi[:, 1:], psi[:, :-1], bounds.omega[:, None], tau_j)
+                            <= bounds.cap[:, None])
+        # (B) Hermite onto the sub-grid of each such interval, broadcast as
+        # (interval, sub-point, xyz), in cache-sized blocks and in float32
         # (ample for culling: 1e-7 relative is under a metre).
         r32, v32 = r.astype(np.float32), v.astype(np.float32)
         for b0 in range(0, ks.size, B_BLOCK):
@@ -320,54 +308,57 @@ def compute_tracks(fleet: Fleet, observer: Observer, window: WindowSpec, termina
                  + (u3 - u2) * tau * v32[bs, bj + 1][:, None, :])
             psi_b = _psi_teme(p, site_teme32[g[bj][:, None] + offs])
             d_tau = (offs[:, 1:] - offs[:, :-1]) * step
-            ok = ((psi_b[:, 1:] + psi_b[:, :-1] - omega[bs][:, None] * d_tau) * 0.5 <= limit[bs][:, None])
+            ok = _lower_bound(psi_b[:, 1:], psi_b[:, :-1], bounds.omega[bs][:, None], d_tau) \
+                <= limit[bs][:, None]
             ii, kk = np.nonzero(ok & (d_tau > 0))
             cand_sat.append(bs[ii])
             cand_first.append(g[bj][ii] + offs[ii, kk])
             cand_last.append(g[bj][ii] + offs[ii, kk + 1])
         report(0.5 * (ci + 1) / n_chunks)
-    if n_time == 1:  # a snapshot: no interval to cull, every satellite is one run
-        rs, rf, rl = np.arange(S), np.zeros(S, dtype=np.int64), np.zeros(S, dtype=np.int64)
-    elif cand_sat:
-        rs, rf, rl = _runs_from_intervals(np.concatenate(cand_sat), np.concatenate(cand_first),
-                                          np.concatenate(cand_last))
-    else:
-        rs = rf = rl = np.zeros(0, dtype=np.int64)
+    if not cand_sat:
+        empty = np.zeros(0, dtype=np.int64)
+        return (empty, empty, empty), evaluations, failed
+    runs = _runs_from_intervals(np.concatenate(cand_sat), np.concatenate(cand_first), np.concatenate(cand_last))
+    return runs, evaluations, failed
 
-    # (C) SGP4 on the ~60 s grid inside the runs.
+
+def _refine(fleet, bounds, runs, jd, fr, site_teme, step, f1, exact_cull=True):
+    """Pass (C): SGP4 states on the f1 grid inside the runs, then (if the window
+    has intervals) an exact cull that keeps the node intervals that can reach the
+    cap.  Returns the surviving runs and their nodes (sat, index, r, v)."""
+    rs, rf, rl = runs
     ns, ni, nrun = _expand_runs(rs, rf, rl, f1)
-    rc, vc, bad = _propagate_pairs(satrecs, ns, ni, jd, fr)
-    evaluations += ns.size
-    failed[list(bad)] = True
-    report(0.8)
-
-    # Cull again with exact SGP4 states on the ~60 s nodes (no Hermite margin):
-    # keep the node intervals whose psi lower bound reaches the cap.
-    if n_time == 1:
-        pass
-    elif ns.size > 1:
-        psi_c = _psi_teme(rc, site_teme[ni])
+    rc, vc, bad = _propagate_pairs(fleet.satrecs, ns, ni, jd, fr)
+    if exact_cull and ns.size:
+        psi = _psi_teme(rc, site_teme[ni])
         same = nrun[1:] == nrun[:-1]
-        lower = (psi_c[1:] + psi_c[:-1] - omega[ns[1:]] * (ni[1:] - ni[:-1]) * step) * 0.5
-        keep = np.flatnonzero(same & (lower <= cap[ns[1:]]))
-        rs, rf, rl = _runs_from_intervals(ns[keep], ni[keep], ni[keep + 1])
-        # Each new run lies on the node grid, so its nodes are a subset of (C)'s.
+        lower = _lower_bound(psi[1:], psi[:-1], bounds.omega[ns[1:]], (ni[1:] - ni[:-1]) * step)
+        keep = np.flatnonzero(same & (lower <= bounds.cap[ns[1:]]))
+        runs = _runs_from_intervals(ns[keep], ni[keep], ni[keep + 1])
+        # The new runs lie on the node grid, so their nodes are a subset of these.
         sel = np.zeros(ns.size, dtype=bool)
         sel[keep] = True
         sel[keep + 1] = True
-        ns, ni, rc, vc = ns[sel], ni[sel], rc[sel], vc[sel]
+        nodes = (ns[sel], ni[sel], rc[sel], vc[sel])
     else:
-        rs = rf = rl = np.zeros(0, dtype=np.int64)
+        nodes = (ns, ni, rc, vc)
+    return runs, nodes, ns.size, bad
 
-    # (D) every sample of each run, from its bracketing (C) nodes.
-    fs, fi, frun = _expand_runs(rs, rf, rl, 1)
+
+def _topocentric(runs, nodes, theta, site, enu, step, terminal: Terminal):
+    """Pass (D): every sample of each run, from its bracketing (C) nodes by cubic
+    Hermite, to azimuth, elevation and range; returns the usable ones as
+    (sat, time index, az_deg, el_deg, range_km)."""
+    fs, fi, _ = _expand_runs(*runs, 1)
+    ns, ni, rc, vc = nodes
     big = np.int64(1) << 32
     key_n = ns.astype(np.int64) * big + ni
+    bore = None
     if terminal.scan_half_angle_deg is not None:
         tl, ta = math.radians(terminal.tilt_deg), math.radians(terminal.tilt_azimuth_deg)
         bore = np.array([math.sin(tl) * math.sin(ta), math.sin(tl) * math.cos(ta), math.cos(tl)])
         cos_half = math.cos(math.radians(terminal.scan_half_angle_deg))
-    keep_ok, keep_az, keep_el, keep_rng = [], [], [], []
+    out = []
     for b0 in range(0, fs.size, D_BLOCK):  # blocks keep temporaries in cache
         bs, bi = fs[b0:b0 + D_BLOCK], fi[b0:b0 + D_BLOCK]
         # Bracketing nodes by (satellite, index) key; both lie in the sample's run.
@@ -377,25 +368,68 @@ def compute_tracks(fleet: Fleet, observer: Observer, window: WindowSpec, termina
         tau = ((ni[k1] - ni[k]) * step).astype(np.float64)
         u = np.where(tau > 0, (bi - ni[k]) * step / np.where(tau > 0, tau, 1.0), 0.0)
         d = _teme_to_itrs(_hermite(rc[k], vc[k], rc[k1], vc[k1], u, tau), theta[bi]) - site
-        e, nn, up = d @ enu[0], d @ enu[1], d @ enu[2]
-        rng = np.sqrt(e * e + nn * nn + up * up)
+        e, n, up = d @ enu[0], d @ enu[1], d @ enu[2]
+        rng = np.sqrt(e * e + n * n + up * up)
         el = np.degrees(np.arcsin(np.clip(up / np.where(rng > 0, rng, 1.0), -1.0, 1.0)))
         ok = (el >= terminal.min_elevation_deg) & np.isfinite(el)
-        if terminal.scan_half_angle_deg is not None:
-            ok &= (e * bore[0] + nn * bore[1] + up * bore[2]) / rng >= cos_half
-        keep_ok.append(ok)
-        keep_az.append(np.degrees(np.arctan2(e[ok], nn[ok])) % 360.0)
-        keep_el.append(el[ok])
-        keep_rng.append(rng[ok])
-    ok = np.concatenate(keep_ok) if keep_ok else np.zeros(0, dtype=bool)
-    az = np.concatenate(keep_az) if keep_az else np.zeros(0)
-    el = np.concatenate(keep_el) if keep_el else np.zeros(0)
-    rng = np.concatenate(keep_rng) if keep_rng else np.zeros(0)
-    sat_o, t_o = fs[ok].astype(np.int32), fi[ok].astype(np.int32)
-    order = np.lexsort((sat_o, t_o))
+        if bore is not None:
+            ok &= (e * bore[0] + n * bore[1] + up * bore[2]) / rng >= cos_half
+        out.append((bs[ok], bi[ok], np.degrees(np.arctan2(e[ok], n[ok])) % 360.0, el[ok], rng[ok]))
+    if not out:
+        return tuple(np.zeros(0) for _ in range(5))
+    return tuple(np.concatenate(c) for c in zip(*out))
+
+
+def compute_tracks(fleet: Fleet, observer: Observer, window: WindowSpec, terminal: Terminal,
+                   progress=None) -> SkyTracks:
+    """Usable-sky samples of every satellite in ``fleet`` over ``window``.
+
+    Four passes (module notes): (A) SGP4 for every satellite on coarse nodes;
+    (B) cubic Hermite interpolation of those states onto a ~2 min grid, culled by
+    the central-angle bound; (C) SGP4 on a ~1 min grid where a satellite may be
+    visible, culled again exactly; (D) Hermite interpolation of (C) onto the
+    user's step and exact topocentric geometry.
+
+    ``progress``, if given, is called with a fraction 0..1 as work completes."""
+    n_time, step = window.count, window.step_s
+    S = len(fleet)
+    report = progress or (lambda f: None)
+    jd, fr, theta = sample_times(window)
+    site, enu = observer_frame(observer)
+    site_r = float(np.linalg.norm(site))
+    # The site's direction in TEME at every sample: ITRS -> TEME is rot_z(-theta).
+    c, sn = np.cos(theta), np.sin(theta)
+    u0, u1, u2 = site / site_r
+    site_teme = np.stack([c * u0 - sn * u1, sn * u0 + c * u1, np.full_like(c, u2)], axis=1)
+    bounds = _bounds(fleet, terminal, site_r)
+
+    # Grid factors in samples: f1 ~ 60 s for the SGP4 nodes of (C); fb = 2 f1 for
+    # the interpolated culling grid of (B); f0 a multiple of fb spanning at most
+    # 1.5 rad of orbit arc (so the Hermite bound stays a few degrees) and 24 min.
+    f1 = max(1, int(round(60.0 / step)))
+    fb = 2 * f1
+    omega_max = float(bounds.omega.max()) if S else EARTH_SPIN_RAD_S
+    f0 = fb * max(1, int(min(1440.0, 1.5 / omega_max) // (fb * step)))
+
+    failed = np.zeros(S, dtype=bool)
+    evaluations = 0
+    if S == 0:
+        empty = np.zeros(0, dtype=np.int64)
+        runs = (empty, empty, empty)
+    elif n_time == 1:  # a snapshot: nothing to cull, every satellite is one run
+        runs = (np.arange(S), np.zeros(S, dtype=np.int64), np.zeros(S, dtype=np.int64))
+    else:
+        runs, evaluations, failed = _cull_coarse(fleet, bounds, jd, fr, site_teme, step, f0, fb, report)
+    runs, nodes, n_nodes, bad = _refine(fleet, bounds, runs, jd, fr, site_teme, step, f1,
+                                        exact_cull=n_time > 1)
+    evaluations += n_nodes
+    failed[list(bad)] = True
+    report(0.8)
+    sat, t, az, el, rng = _topocentric(runs, nodes, theta, site, enu, step, terminal)
+    order = np.lexsort((sat, t))
     report(1.0)
     return SkyTracks(
-        sat_o[order], t_o[order],
+        sat[order].astype(np.int32), t[order].astype(np.int32),
         az[order].astype(np.float32), el[order].astype(np.float32), rng[order].astype(np.float32),
         window, fleet, observer, terminal, int(evaluations), int(failed.sum()),
     )
