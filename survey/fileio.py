@@ -17,18 +17,32 @@ def atomic_write_bytes(path: str | os.PathLike, data: bytes) -> None:
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise InputError(f"{path}: folder {folder} does not exist")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
     try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise InputError(f"{path}: cannot write here: {exc.strerror}") from None
+    try:
+        # mkstemp makes the file private (0600); give it the mode a plain open()
+        # would, or keep the mode of the file it replaces.
+        try:
+            mode = path.stat().st_mode & 0o7777
+        except FileNotFoundError:
+            mask = os.umask(0)
+            os.umask(mask)
+            mode = 0o666 & ~mask
+        os.chmod(tmp, mode)
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, path)
-    except BaseException:
+    except BaseException as exc:
         try:
             os.unlink(tmp)
         except FileNotFoundError:
             pass
+        if isinstance(exc, OSError):
+            raise InputError(f"{path}: cannot write: {exc.strerror or exc}") from None
         raise
 
 
