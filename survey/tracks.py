@@ -27,7 +27,6 @@ from dataclasses import dataclass
 from datetime import datetime, timedelta, timezone
 
 import numpy as np
-from sgp4.api import SatrecArray
 
 from .constellation import MU_KM3_S2, Fleet
 from .site import Terminal, WindowSpec
@@ -265,6 +264,37 @@ def _lower_bound(psi_a, psi_b, omega, tau_s):
     return (psi_a + psi_b - omega * tau_s) * 0.5
 
 
+PLANE_MARGIN_RAD = math.radians(0.5)  # osculating vs mean orbit plane (J2 short-period terms ~0.1 deg)
+
+
+def _plane_reachable(fleet, bounds, jd, fr, site_teme, g, step):
+    """(S, len(g)-1) bool: can the satellite's orbit plane come within the cap of
+    the site during each coarse interval?  A satellite is never nearer the site
+    than the site is to its orbit plane (psi >= |delta|), and the plane follows
+    from the mean elements (inclination, node and its secular J2 rate, the same
+    mean elements SGP4 starts from) at no propagation cost.  The angle delta
+    moves with the Earth's spin plus the nodal drift.  Deep-space element sets
+    (lunisolar terms move the plane) always pass."""
+    sats = fleet.satrecs
+    inc = np.array([s.inclo for s in sats])[:, None]
+    node0 = np.array([s.nodeo for s in sats])[:, None]
+    nodedot = np.array([s.nodedot for s in sats])[:, None]  # rad/min
+    epoch = np.array([s.jdsatepoch + s.jdsatepochF for s in sats])[:, None]
+    minutes = ((jd[g] + fr[g])[None, :] - epoch) * 1440.0
+    node = node0 + nodedot * minutes
+    si = np.sin(inc)
+    # Orbit normal in TEME from inclination and node: (sin i sin O, -sin i cos O, cos i).
+    st = site_teme[g]
+    sin_delta = si * np.sin(node) * st[None, :, 0] - si * np.cos(node) * st[None, :, 1] + np.cos(inc) * st[None, :, 2]
+    delta = np.abs(np.arcsin(np.clip(sin_delta, -1.0, 1.0)))
+    rate = EARTH_SPIN_RAD_S + np.abs(nodedot[:, 0]) / 60.0
+    tau = ((g[1:] - g[:-1]) * step)[None, :]
+    ok = _lower_bound(delta[:, 1:], delta[:, :-1], rate[:, None], tau) <= (bounds.cap + PLANE_MARGIN_RAD)[:, None]
+    deep = np.array([s.method != "n" for s in sats])
+    ok[deep] = True
+    return ok
+
+
 def _cull_coarse(fleet, bounds, jd, fr, site_teme, step, f0, fb, report):
     """Passes (A) and (B): candidate [first, last] sample-index runs per satellite."""
     S, n_time = len(fleet), jd.size
@@ -276,16 +306,24 @@ def _cull_coarse(fleet, bounds, jd, fr, site_teme, step, f0, fb, report):
     per_chunk = max(2, CHUNK_POINTS // max(S * (f0 // fb + 1), 1))
     n_chunks = max(1, math.ceil((nodes.size - 1) / per_chunk))
     sub = np.arange(0, f0 + 1, fb)  # sub-grid offsets inside one coarse interval
-    arr = SatrecArray(fleet.satrecs)
     evaluations = 0
     failed = np.zeros(S, dtype=bool)
     cand_sat, cand_first, cand_last = [], [], []
     for ci in range(n_chunks):
         # (A) every satellite on this chunk's coarse nodes.
         g = nodes[ci * per_chunk: (ci + 1) * per_chunk + 1]
-        err, r, v = arr.sgp4(jd[g], fr[g])
-        evaluations += r.shape[0] * r.shape[1]
-        failed |= np.any(err != 0, axis=1)
+        # Only the nodes of intervals whose orbit plane can reach the site.
+        reach = _plane_reachable(fleet, bounds, jd, fr, site_teme, g, step)
+        need = np.zeros((S, g.size), dtype=bool)
+        need[:, :-1] |= reach
+        need[:, 1:] |= reach
+        ps, pj = np.nonzero(need)
+        r = np.full((S, g.size, 3), np.nan)
+        v = np.full((S, g.size, 3), np.nan)
+        rr, vv, bad = _propagate_pairs(fleet.satrecs, ps, g[pj], jd, fr)
+        r[ps, pj], v[ps, pj] = rr, vv
+        evaluations += ps.size
+        failed[list(bad)] = True
         psi = _psi_teme(r, site_teme[g][None, :, :])
         tau_j = ((g[1:] - g[:-1]) * step)[None, :]
         ks, kj = np.nonzero(_lower_bound(psi[:, 1:], psi[:, :-1], bounds.omega[:, None], tau_j)
