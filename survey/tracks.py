@@ -11,7 +11,10 @@ Speed comes from culling, not from a faster propagator.  The central angle psi
 between the observer's geocentric direction and a satellite changes no faster
 than the satellite's angular rate plus the Earth's spin, and a satellite can be
 above the minimum elevation only while psi is inside the Earth central angle of
-coverage.  So: (A) SGP4 for every satellite on coarse nodes ~20 min apart;
+coverage; and psi is never less than the site's angular distance from the
+satellite's orbit plane, which the mean elements give at no propagation cost.
+So: (A) SGP4 on coarse nodes ~20 min apart, only where the orbit plane can come
+within reach of the site;
 (B) cubic Hermite interpolation of those states on a ~2 min grid, culled with
 the psi bound widened by the Hermite error bound; (C) SGP4 on a ~1 min grid only
 where a satellite may be visible, culled again exactly; (D) Hermite
@@ -422,7 +425,8 @@ def compute_tracks(fleet: Fleet, observer: Observer, window: WindowSpec, termina
                    progress=None) -> SkyTracks:
     """Usable-sky samples of every satellite in ``fleet`` over ``window``.
 
-    Four passes (module notes): (A) SGP4 for every satellite on coarse nodes;
+    Four passes (module notes): (A) SGP4 on coarse nodes where the orbit plane
+    can come near the site;
     (B) cubic Hermite interpolation of those states onto a ~2 min grid, culled by
     the central-angle bound; (C) SGP4 on a ~1 min grid where a satellite may be
     visible, culled again exactly; (D) Hermite interpolation of (C) onto the
