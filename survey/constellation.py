@@ -22,6 +22,7 @@ from sgp4.api import WGS72, Satrec
 
 from .errors import InputError, Problems
 from .fileio import read_text
+from .tables import Table
 
 MU_KM3_S2 = 398600.4418  # WGS84 Earth gravitational parameter (NIMA TR8350.2)
 EARTH_RADIUS_KM = 6378.137  # WGS84 equatorial radius
@@ -152,40 +153,18 @@ def parse_shells(text: str, where: str) -> list[Shell]:
             problems.add(key, "unknown table (expected [[shell]])")
     shells = []
     known = ("name", "altitude_km", "inclination_deg", "planes", "per_plane", "phasing")
-    for i, t in enumerate(raw):
-        f = f"shell[{i}]"
-        for key in t:
-            if key not in known:
-                problems.add(f"{f}.{key}", f"unknown key (expected one of: {', '.join(known)})")
-        name = t.get("name", f"shell-{i + 1}")
-        if not isinstance(name, str):
-            problems.add(f"{f}.name", "expected text")
-            name = f"shell-{i + 1}"
-
-        def num(key, lo, hi, integer=False, default=None):
-            if key not in t:
-                if default is None:
-                    problems.add(f"{f}.{key}", "missing")
-                return default
-            v = t[key]
-            ok = isinstance(v, int) if integer else isinstance(v, (int, float))
-            if isinstance(v, bool) or not ok:
-                problems.add(f"{f}.{key}", f"expected {'a whole number' if integer else 'a number'}, got {v!r}")
-                return default
-            if not lo <= v <= hi:
-                problems.add(f"{f}.{key}", f"{v} is outside {lo} to {hi}")
-                return default
-            return v
-
-        alt = num("altitude_km", 150, 3000)
-        inc = num("inclination_deg", 0, 180)
-        planes = num("planes", 1, 1000, True)
-        per = num("per_plane", 1, 1000, True)
-        phasing = num("phasing", 0, 10**6, True, default=0)
-        if planes and phasing is not None and phasing >= planes and planes > 0:
-            problems.add(f"{f}.phasing", f"must be below planes ({planes}) in a Walker delta pattern")
+    for i, raw_shell in enumerate(raw):
+        t = Table(raw_shell, f"shell[{i}]", problems, known)
+        name = t.text("name", f"shell-{i + 1}")
+        alt = t.number("altitude_km", None, 150, 3000, required=True)
+        inc = t.number("inclination_deg", None, 0, 180, required=True)
+        planes = t.number("planes", None, 1, 1000, required=True, integer=True)
+        per = t.number("per_plane", None, 1, 1000, required=True, integer=True)
+        phasing = t.number("phasing", 0, 0, 10**6, integer=True)
+        if planes and phasing >= planes:
+            problems.add(f"shell[{i}].phasing", f"must be below planes ({planes}) in a Walker delta pattern")
         if None not in (alt, inc, planes, per):
-            shells.append(Shell(name, float(alt), float(inc), int(planes), int(per), int(phasing or 0)))
+            shells.append(Shell(name, alt, inc, planes, per, phasing))
     problems.raise_if_any()
     return shells
 

@@ -16,6 +16,7 @@ from pathlib import Path
 from .errors import InputError, Problems
 from .fileio import read_text
 from .horizon import HorizonProfile, parse_point, read_horizon_csv
+from .tables import Table
 
 MOUNT_KINDS = ("fixed", "vehicle", "marine")
 REFERENCES = ("true", "magnetic")
@@ -122,53 +123,6 @@ def parse_time(text, where: str, problems: Problems) -> datetime | None:
     return dt.astimezone(timezone.utc)
 
 
-class _Table:
-    """Typed access to one TOML table, recording problems instead of raising."""
-
-    def __init__(self, data, name: str, problems: Problems, known: tuple[str, ...]):
-        self.name, self.problems = name, problems
-        if not isinstance(data, dict):
-            problems.add(name, "expected a table")
-            data = {}
-        self.data = data
-        for key in data:
-            if key not in known:
-                problems.add(f"{name}.{key}", f"unknown key (expected one of: {', '.join(known)})")
-
-    def number(self, key, default=None, lo=None, hi=None, required=False, positive=False):
-        field_name = f"{self.name}.{key}"
-        if key not in self.data:
-            if required:
-                self.problems.add(field_name, "missing")
-            return default
-        v = self.data[key]
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
-            self.problems.add(field_name, f"expected a number, got {v!r}")
-            return default
-        if lo is not None and v < lo or hi is not None and v > hi:
-            self.problems.add(field_name, f"{v} is outside {lo} to {hi}")
-            return default
-        if positive and v <= 0:
-            self.problems.add(field_name, f"must be greater than 0, got {v}")
-            return default
-        return float(v)
-
-    def text(self, key, default="", required=False, choices=None):
-        field_name = f"{self.name}.{key}"
-        if key not in self.data:
-            if required:
-                self.problems.add(field_name, "missing")
-            return default
-        v = self.data[key]
-        if not isinstance(v, str):
-            self.problems.add(field_name, f"expected text, got {v!r}")
-            return default
-        if choices and v not in choices:
-            self.problems.add(field_name, f"{v!r} is not one of: {', '.join(choices)}")
-            return default
-        return v
-
-
 def load_site(path: str | Path) -> Site:
     """Read and validate a site file; raises InputError listing every problem."""
     path = Path(path)
@@ -188,16 +142,16 @@ def site_from_dict(doc: dict, path: Path) -> Site:
                               "criteria, schedule, survey)")
     if "site" not in doc:
         problems.add("site", "missing table [site] with name, latitude, longitude")
-    s = _Table(doc.get("site", {}), "site", problems, ("name", "latitude", "longitude", "elevation_m"))
+    s = Table(doc.get("site", {}), "site", problems, ("name", "latitude", "longitude", "elevation_m"))
     name = s.text("name", required=True) or path.stem
     lat = s.number("latitude", 0.0, -90.0, 90.0, required=True)
     lon = s.number("longitude", 0.0, -180.0, 180.0, required=True)
     elev = s.number("elevation_m", 0.0, -500.0, 9000.0)
 
-    m = _Table(doc.get("mount", {}), "mount", problems, ("kind", "height_m"))
+    m = Table(doc.get("mount", {}), "mount", problems, ("kind", "height_m"))
     mount = Mount(m.text("kind", "fixed", choices=MOUNT_KINDS), m.number("height_m", 0.0, 0.0, 500.0))
 
-    t = _Table(doc.get("terminal", {}), "terminal", problems,
+    t = Table(doc.get("terminal", {}), "terminal", problems,
                ("min_elevation_deg", "tilt_deg", "tilt_azimuth_deg", "scan_half_angle_deg"))
     terminal = Terminal(
         t.number("min_elevation_deg", 25.0, 0.0, 90.0),
@@ -206,7 +160,7 @@ def site_from_dict(doc: dict, path: Path) -> Site:
         t.number("scan_half_angle_deg", None, 0.0, 180.0, positive=True),
     )
 
-    h = _Table(doc.get("horizon", {}), "horizon", problems, ("reference", "points", "file"))
+    h = Table(doc.get("horizon", {}), "horizon", problems, ("reference", "points", "file"))
     reference = h.text("reference", "true", choices=REFERENCES)
     points = []
     if "points" in h.data and "file" in h.data:
@@ -226,7 +180,7 @@ def site_from_dict(doc: dict, path: Path) -> Site:
         except InputError as exc:
             problems.items.extend(exc.problems)
 
-    w = _Table(doc.get("window", {}), "window", problems, ("start", "hours", "step_s"))
+    w = Table(doc.get("window", {}), "window", problems, ("start", "hours", "step_s"))
     window = {}
     if "start" in w.data:
         start = parse_time(w.data["start"], "window.start", problems)
@@ -241,16 +195,16 @@ def site_from_dict(doc: dict, path: Path) -> Site:
 
     names = ("qualified_max_blocked", "marginal_max_blocked", "qualified_max_interruption",
              "marginal_max_interruption", "min_availability")
-    c = _Table(doc.get("criteria", {}), "criteria", problems, names)
+    c = Table(doc.get("criteria", {}), "criteria", problems, names)
     criteria = Criteria(**{k: c.number(k, getattr(Criteria(), k), 0.0, 1.0) for k in names})
     for what in ("blocked", "interruption"):
         if getattr(criteria, f"marginal_max_{what}") < getattr(criteria, f"qualified_max_{what}"):
             problems.add(f"criteria.marginal_max_{what}", f"must be at least criteria.qualified_max_{what}")
 
-    sc = _Table(doc.get("schedule", {}), "schedule", problems, ("reassign_s",))
+    sc = Table(doc.get("schedule", {}), "schedule", problems, ("reassign_s",))
     schedule = Schedule(sc.number("reassign_s", Schedule().reassign_s, positive=True))
 
-    sv = _Table(doc.get("survey", {}), "survey", problems, ("surveyor", "organisation", "customer", "notes"))
+    sv = Table(doc.get("survey", {}), "survey", problems, ("surveyor", "organisation", "customer", "notes"))
     survey = {k: sv.text(k) for k in ("surveyor", "organisation", "customer", "notes") if k in sv.data}
 
     problems.raise_if_any()

@@ -1,0 +1,64 @@
+"""Typed reading of one TOML table at the input edge.
+
+Each wrong value is recorded as one problem naming the field; the caller raises
+them all together (``Problems.raise_if_any``)."""
+
+from __future__ import annotations
+
+import math
+
+from .errors import Problems
+
+
+class Table:
+    """Typed access to one TOML table (``name`` is how fields are reported)."""
+
+    def __init__(self, data, name: str, problems: Problems, known: tuple[str, ...]):
+        self.name, self.problems = name, problems
+        if not isinstance(data, dict):
+            problems.add(name, "expected a table")
+            data = {}
+        self.data = data
+        for key in data:
+            if key not in known:
+                problems.add(f"{name}.{key}", f"unknown key (expected one of: {', '.join(known)})")
+
+    def _value(self, key, required):
+        """(present, value); records 'missing' for an absent required key."""
+        if key in self.data:
+            return True, self.data[key]
+        if required:
+            self.problems.add(f"{self.name}.{key}", "missing")
+        return False, None
+
+    def number(self, key, default=None, lo=None, hi=None, required=False, positive=False, integer=False):
+        """A number (a whole number with ``integer``) within [lo, hi]; else the
+        default, with the problem recorded."""
+        present, v = self._value(key, required)
+        if not present:
+            return default
+        field = f"{self.name}.{key}"
+        kinds = int if integer else (int, float)
+        if isinstance(v, bool) or not isinstance(v, kinds) or not math.isfinite(v):
+            self.problems.add(field, f"expected {'a whole number' if integer else 'a number'}, got {v!r}")
+            return default
+        if lo is not None and v < lo or hi is not None and v > hi:
+            self.problems.add(field, f"{v} is outside {lo} to {hi}")
+            return default
+        if positive and v <= 0:
+            self.problems.add(field, f"must be greater than 0, got {v}")
+            return default
+        return int(v) if integer else float(v)
+
+    def text(self, key, default="", required=False, choices=None):
+        present, v = self._value(key, required)
+        if not present:
+            return default
+        field = f"{self.name}.{key}"
+        if not isinstance(v, str):
+            self.problems.add(field, f"expected text, got {v!r}")
+            return default
+        if choices and v not in choices:
+            self.problems.add(field, f"{v!r} is not one of: {', '.join(choices)}")
+            return default
+        return v
