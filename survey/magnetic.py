@@ -76,11 +76,13 @@ def _wmm_field(lat_deg: float, lon_deg: float, height_km: float, year: float) ->
     _defer_geoid_grid()
     from wmm import wmm_calc  # imported here: only needed once per site
 
-    model = wmm_calc()
-    model.setup_time(dyear=year)
-    model.setup_env(lat_deg, lon_deg, height_km, unit="km", msl=False)
     with warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # we report the pole zones ourselves
+        # The model warns on stderr about pole zones and pole singularities; we
+        # report what matters to an installer ourselves, as warnings of the run.
+        warnings.simplefilter("ignore")
+        model = wmm_calc()
+        model.setup_time(dyear=year)
+        model.setup_env(lat_deg, lon_deg, height_km, unit="km", msl=False)
         out = model.get_all()
     return float(out["dec"][0]), float(out["h"][0])
 

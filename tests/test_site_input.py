@@ -147,3 +147,21 @@ def test_bad_window_start(write_site):
 def test_criteria_order_checked(write_site):
     _, problems = problems_for(write_site, MINIMAL_SITE + "\n[criteria]\nqualified_max_blocked = 0.2\n")
     assert "criteria.marginal_max_blocked" in problems[0]
+
+
+def test_window_defaults_and_overrides(write_site):
+    from datetime import datetime, timezone
+
+    from survey.site import resolve_window
+
+    site = load_site(write_site(MINIMAL_SITE))
+    now = datetime(2026, 7, 9, 15, 42, tzinfo=timezone.utc)
+    w = resolve_window(site, now=now)
+    assert (w.start, w.hours, w.step_s, w.count) == (datetime(2026, 7, 9, tzinfo=timezone.utc), 24.0, 15.0, 5760)
+    w = resolve_window(site, hours=1.5, step_s=20, now=now)
+    assert w.count == 270  # floor(1.5 * 3600 / 20)
+    partial = load_site(write_site(MINIMAL_SITE + "\n[window]\nhours = 6\n", "p.toml"))
+    w = resolve_window(partial, now=now)
+    assert w.start == datetime(2026, 7, 9, tzinfo=timezone.utc) and w.hours == 6 and w.step_s == 15
+    with pytest.raises(InputError):
+        resolve_window(site, hours=0.001, step_s=15, now=now)  # holds no sample
