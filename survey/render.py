@@ -545,7 +545,12 @@ def _legend(draw, lay: _Layout, ss: int, *, t_clear, t_block, d_max, has_mask,
     total = t_clear + t_block
 
     def share(t):
-        return f" ({100.0 * t / total:.0f}% of track time)" if total > 0 else ""
+        if total <= 0:
+            return ""
+        pct = 100.0 * t / total
+        # One decimal below 10 %, so a small but real obstruction never reads "0%".
+        text = f"{pct:.1f}" if 0 < pct < 10 or 90 < pct < 100 else f"{pct:.0f}"
+        return f" ({text}% of track time)"
 
     def gradient(x, y, lut):
         steps = int(sw_w)
