@@ -255,3 +255,12 @@ def test_bad_horizon_csv_exits_2(write_site, tmp_path, capsys):
     site = write_site(MINIMAL_SITE + '\n[horizon]\nfile = "h.csv"\n')
     lines = bad(["assess", str(site)], capsys, tmp_path)
     assert lines == [f"leosite: {tmp_path / 'h.csv'}: line 3: elevation 95.0 is outside 0 to 90 degrees"]
+
+
+@pytest.mark.parametrize("kind,caution", [("vehicle", "clearance height"), ("marine", "radar beams")])
+def test_moving_mounts_are_flagged_and_get_their_own_caution(kind, caution, write_site, capsys):
+    site = write_site(MINIMAL_SITE.replace('kind = "fixed"', f'kind = "{kind}"'))
+    code, out, _ = run(["assess", str(site), *FAST], capsys)
+    assert code == 0
+    assert f"mount kind '{kind}': heading, roll and route are not modelled yet" in " ".join(out.split())
+    assert caution in " ".join(out.split())
