@@ -19,7 +19,6 @@ import platform
 import subprocess
 import sys
 import time
-from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -29,7 +28,7 @@ sys.path.insert(0, str(ROOT))
 
 from survey.assess import assess  # noqa: E402
 from survey.horizon import HorizonMask, HorizonPoint  # noqa: E402
-from survey.pipeline import FleetChoice, run_site, site_observer  # noqa: E402
+from survey.pipeline import FleetChoice, site_observer  # noqa: E402
 from survey.site import load_site, resolve_window  # noqa: E402
 from survey.tracks import compute_tracks  # noqa: E402
 

@@ -113,7 +113,7 @@ def kepler_mean_motion_rad_s(altitude_km: float) -> float:
 
 def walker_fleet(shells: list[Shell], epoch: datetime, source: str, illustrative: bool = False) -> Fleet:
     """Element sets for Walker shells, circular orbits with the window start as epoch."""
-    jd = _julian_date(epoch)
+    jd = julian_date_utc(epoch)
     sgp4_epoch = jd - JD_1949_DEC_31
     satrecs, names, group = [], [], []
     number = 1
@@ -132,7 +132,9 @@ def walker_fleet(shells: list[Shell], epoch: datetime, source: str, illustrative
     return Fleet(satrecs, names, group, source, illustrative)
 
 
-def _julian_date(when: datetime) -> float:
+def julian_date_utc(when: datetime) -> float:
+    """Julian date of a UTC instant (JD 2451545.0 = 2000-01-01 12:00 UTC), as
+    SGP4 epochs and times are counted."""
     when = when.astimezone(timezone.utc)
     j2000 = datetime(2000, 1, 1, 12, tzinfo=timezone.utc)
     return 2451545.0 + (when - j2000).total_seconds() / 86400.0

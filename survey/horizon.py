@@ -228,13 +228,3 @@ def read_horizon_csv(path: str | Path) -> tuple[HorizonPoint, ...]:
     problems.raise_if_any()
     return tuple(points)
 
-
-def write_horizon_csv(points) -> str:
-    """The points as horizon CSV text (the format read_horizon_csv accepts)."""
-    out = io.StringIO()
-    w = csv.writer(out, lineterminator="\n")
-    w.writerow(["azimuth_deg", "elevation_deg", "distance_m", "label"])
-    for p in points:
-        w.writerow([f"{p.azimuth_deg:g}", f"{p.elevation_deg:g}",
-                    "" if p.distance_m is None else f"{p.distance_m:g}", p.label])
-    return out.getvalue()

@@ -31,7 +31,7 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 
-from .constellation import MU_KM3_S2, Fleet
+from .constellation import MU_KM3_S2, Fleet, julian_date_utc
 from .site import Terminal, WindowSpec
 
 EARTH_SPIN_RAD_S = 7.2921150e-5  # WGS84 nominal mean angular velocity
@@ -113,8 +113,7 @@ def sample_times(window: WindowSpec):
     theta, _ = theta_GMST1982(t.whole, t.ut1_fraction)
     # SGP4 takes UTC Julian dates (element-set epochs are UTC), as skyfield
     # passes them: split into a whole day and a fraction for precision.
-    j2000 = datetime(2000, 1, 1, 12, tzinfo=timezone.utc)
-    jd0 = 2451545.0 + (start - j2000).total_seconds() / 86400.0
+    jd0 = julian_date_utc(start)
     whole0 = math.floor(jd0 - 0.5) + 0.5
     frac = (jd0 - whole0) + offs / 86400.0
     return np.full(n, whole0), frac, np.broadcast_to(np.asarray(theta, dtype=np.float64), (n,)).copy()

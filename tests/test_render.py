@@ -58,12 +58,12 @@ def repeat(az, el, n):
 
 # --- pixel classifiers (Okabe & Ito hues used by the figure) ---------------
 def is_clear(px):      # blue family: #56B4E9 .. #0072B2 and darker
-    r, g, b = px[..., 0], px[..., 1], px[..., 2]
+    r, _g, b = px[..., 0], px[..., 1], px[..., 2]
     return (b - r > 45) & (b > 50)
 
 
 def is_blocked(px):    # orange/vermillion family: #E69F00 .. #D55E00
-    r, g, b = px[..., 0], px[..., 1], px[..., 2]
+    r, _g, b = px[..., 0], px[..., 1], px[..., 2]
     return (r - b > 60)
 
 
