@@ -173,8 +173,12 @@ def parse_shells(text: str, where: str) -> list[Shell]:
 
 def load_shells(path: str | Path, epoch: datetime) -> Fleet:
     path = Path(path)
-    shells = parse_shells(read_text(path, "shell file"), str(path))
-    return walker_fleet(shells, epoch, f"Walker shells from {path.name}")
+    return shells_fleet(read_text(path, "shell file"), str(path), epoch)
+
+
+def shells_fleet(text: str, where: str, epoch: datetime) -> Fleet:
+    """Walker shells from shell-file text (``where`` names the file in errors)."""
+    return walker_fleet(parse_shells(text, where), epoch, f"Walker shells from {Path(where).name}")
 
 
 def default_fleet(epoch: datetime) -> Fleet:
@@ -305,9 +309,12 @@ def parse_omm_records(records, where: str) -> Fleet:
 def load_elements(path: str | Path) -> Fleet:
     """A TLE or OMM file, told apart by content: XML, JSON, CSV with a header, or TLE."""
     path = Path(path)
-    text = read_text(path, "element-set file")
+    return parse_elements(read_text(path, "element-set file"), str(path))
+
+
+def parse_elements(text: str, where: str) -> Fleet:
+    """Element sets from the text of a TLE or OMM file (``where`` names it in errors)."""
     head = text.lstrip()[:200]
-    where = str(path)
     if head.startswith("<"):
         import xml.etree.ElementTree as ET  # only OMM XML needs it
 

@@ -9,7 +9,8 @@ from datetime import datetime
 from pathlib import Path
 
 from .assess import Assessment, assess
-from .constellation import Fleet, default_fleet, load_elements, load_shells
+from .constellation import Fleet, default_fleet, parse_elements, shells_fleet
+from .fileio import read_text
 from .horizon import HorizonMask
 from .magnetic import Declination, declination
 from .site import Site, WindowSpec, resolve_window
@@ -18,17 +19,33 @@ from .tracks import Observer, SkyTracks, compute_tracks
 
 @dataclass(frozen=True)
 class FleetChoice:
-    """Which satellites to use: a shell file, an element-set file, or the default."""
+    """Which satellites to use: a shell file, an element-set file, or the default.
+
+    ``embedded`` = (kind, name, text) carries a file's text instead of its path
+    (kind "shells" or "elements"), so a report's JSON can be run again without
+    the original file."""
 
     shells: Path | None = None
     elements: Path | None = None
+    embedded: tuple[str, str, str] | None = None
 
     def load(self, epoch: datetime) -> Fleet:
-        if self.shells is not None:
-            return load_shells(self.shells, epoch)
-        if self.elements is not None:
-            return load_elements(self.elements)
+        kind, name, text = self.as_embedded()
+        if kind == "shells":
+            return shells_fleet(text, name, epoch)
+        if kind == "elements":
+            return parse_elements(text, name)
         return default_fleet(epoch)
+
+    def as_embedded(self) -> tuple[str, str, str]:
+        """(kind, name, text); kind "default" has no file."""
+        if self.embedded is not None:
+            return self.embedded
+        if self.shells is not None:
+            return "shells", str(self.shells), read_text(self.shells, "shell file")
+        if self.elements is not None:
+            return "elements", str(self.elements), read_text(self.elements, "element-set file")
+        return "default", "", ""
 
 
 @dataclass
