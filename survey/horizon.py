@@ -95,6 +95,15 @@ class HorizonMask:
         xp, fp = self._knots()
         return np.interp(a, xp, fp)
 
+    def with_sector_cleared(self, start_deg: float, end_deg: float) -> "HorizonMask":
+        """This mask with its knots in [start, end) (clockwise; start == end means
+        all round) set to 0: what the site would see if that obstruction were gone.
+        For a sector from :meth:`sectors_above`, the knots just outside it are at
+        or below the threshold, so no sample above the threshold stays blocked
+        inside the sector."""
+        inside = in_sector(self.az_deg, start_deg, end_deg)
+        return HorizonMask(self.az_deg.copy(), np.where(inside, 0.0, self.el_deg), self.labels)
+
     def sectors_above(self, threshold_deg: float) -> list[tuple[float, float]]:
         """Maximal azimuth intervals (start, end), degrees, where the mask is above
         ``threshold_deg``.  An interval may wrap (start > end); (0, 360) means all
