@@ -12,7 +12,6 @@ import csv
 import io
 import json
 import math
-import tomllib
 from dataclasses import dataclass
 from datetime import datetime, timedelta, timezone
 from importlib import resources
@@ -21,7 +20,7 @@ from pathlib import Path
 from sgp4.api import WGS72, Satrec
 
 from .errors import InputError, Problems
-from .fileio import read_text
+from .fileio import parse_toml, read_text
 from .tables import Table
 
 MU_KM3_S2 = 398600.4418  # WGS84 Earth gravitational parameter (NIMA TR8350.2)
@@ -142,10 +141,7 @@ def julian_date_utc(when: datetime) -> float:
 
 def parse_shells(text: str, where: str) -> list[Shell]:
     """Shells from shell-file TOML text: a list of [[shell]] tables."""
-    try:
-        doc = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"{where}: not valid TOML: {exc}") from None
+    doc = parse_toml(text, where)
     problems = Problems(where)
     raw = doc.get("shell")
     if not isinstance(raw, list) or not raw:

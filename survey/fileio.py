@@ -66,3 +66,13 @@ def read_text(path: str | os.PathLike, what: str = "file") -> str:
     except UnicodeDecodeError as exc:
         line = raw[: exc.start].count(b"\n") + 1
         raise InputError(f"{path}: line {line}: not UTF-8 text (byte {exc.start})") from None
+
+
+def parse_toml(text: str, where: str) -> dict:
+    """TOML text as a dict; a syntax error is one InputError line naming ``where``."""
+    import tomllib
+
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{where}: not valid TOML: {exc}") from None

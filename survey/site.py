@@ -8,14 +8,14 @@ the site file's folder.
 from __future__ import annotations
 
 import math
-import tomllib
 from dataclasses import dataclass, field
 from datetime import datetime, timezone
 from pathlib import Path
 
 from .errors import InputError, Problems
-from .fileio import read_text
+from .fileio import parse_toml, read_text
 from .horizon import HorizonProfile, parse_point, read_horizon_csv
+from .plan import Plan, plan_from_site_table
 from .tables import Table
 
 MOUNT_KINDS = ("fixed", "vehicle", "marine")
@@ -93,6 +93,7 @@ class Site:
     window: dict = field(default_factory=dict)  # the [window] table as typed (start/hours/step_s)
     survey: dict = field(default_factory=dict)  # [survey]: surveyor, organisation, customer, notes
     path: Path | None = None
+    plan: Plan | None = None  # [plan]: obstacles and candidate spots (survey/plan.py)
 
     @property
     def antenna_height_m(self) -> float:
@@ -126,26 +127,23 @@ def parse_time(text, where: str, problems: Problems) -> datetime | None:
 def load_site(path: str | Path) -> Site:
     """Read and validate a site file; raises InputError listing every problem."""
     path = Path(path)
-    text = read_text(path, "site file")
-    try:
-        doc = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"{path}: not valid TOML: {exc}") from None
-    return site_from_dict(doc, path)
+    return site_from_dict(parse_toml(read_text(path, "site file"), str(path)), path)
 
 
 def site_from_dict(doc: dict, path: Path) -> Site:
     problems = Problems(str(path))
     for key in doc:
-        if key not in ("site", "mount", "terminal", "horizon", "window", "criteria", "schedule", "survey"):
+        if key not in ("site", "mount", "terminal", "horizon", "window", "criteria", "schedule", "survey",
+                       "plan"):
             problems.add(key, "unknown table (expected site, mount, terminal, horizon, window, "
-                              "criteria, schedule, survey)")
+                              "criteria, schedule, survey, plan)")
     if "site" not in doc:
         problems.add("site", "missing table [site] with name, latitude, longitude")
     s = Table(doc.get("site", {}), "site", problems, ("name", "latitude", "longitude", "elevation_m"))
     name = s.text("name", required=True) or path.stem
     lat = s.number("latitude", 0.0, -90.0, 90.0, required=True)
     lon = s.number("longitude", 0.0, -180.0, 180.0, required=True)
+    origin_ok = not any(f": site.{k}: " in p for p in problems.items for k in ("latitude", "longitude"))
     elev = s.number("elevation_m", 0.0, -500.0, 9000.0)
 
     m = Table(doc.get("mount", {}), "mount", problems, ("kind", "height_m"))
@@ -207,9 +205,13 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     sv = Table(doc.get("survey", {}), "survey", problems, ("surveyor", "organisation", "customer", "notes"))
     survey = {k: sv.text(k) for k in ("surveyor", "organisation", "customer", "notes") if k in sv.data}
 
+    plan = None
+    if "plan" in doc:  # a GeoJSON plan is placed by the site point: only with a valid one
+        plan = plan_from_site_table(doc["plan"], path, problems, (lat, lon) if origin_ok else None)
+
     problems.raise_if_any()
     return Site(name, lat, lon, elev, mount, terminal, HorizonProfile(tuple(points), reference),
-                criteria, schedule, window, survey, path)
+                criteria, schedule, window, survey, path, plan)
 
 
 def resolve_window(site: Site, start: datetime | None = None, hours: float | None = None,
