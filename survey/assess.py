@@ -90,8 +90,25 @@ def blocked_samples(tracks: SkyTracks, mask: HorizonMask) -> np.ndarray:
     return tracks.el_deg < mask.elevation_at(tracks.az_deg)
 
 
-def schedule_down(tracks: SkyTracks, blocked: np.ndarray, reassign_s: float) -> np.ndarray:
-    """Per sample time: is the link down under the reassignment model?"""
+@dataclass(frozen=True)
+class Assignment:
+    """The scheduling model's choices, which do not depend on the mask: computed
+    once per set of tracks and reused for every mask (a horizon edit, or each of
+    many candidate spots).
+
+    ``first`` marks the reassignment instants (bool per sample time); ``sample``
+    is, per sample time, the index into the tracks of the assigned satellite's
+    sample at that time, or -1 where it has none (not assigned, or set below the
+    minimum elevation since it was assigned)."""
+
+    first: np.ndarray
+    sample: np.ndarray
+
+
+def schedule_assignment(tracks: SkyTracks, reassign_s: float) -> Assignment:
+    """Which satellite is assigned at each sample time, and its sample there: every
+    ``reassign_s`` seconds (at the first sample at or after each multiple from the
+    window start) the highest usable satellite, held until the next instant."""
     n, step = tracks.count, tracks.window.step_s
     k = np.arange(n)
     slot = np.floor(k * step / reassign_s + 1e-9).astype(np.int64)
@@ -104,7 +121,7 @@ def schedule_down(tracks: SkyTracks, blocked: np.ndarray, reassign_s: float) -> 
     best_sat = np.full(n, -1, dtype=np.int64)
     best_sat[t[order][last_of_time]] = sat[order][last_of_time]
     assigned = best_sat[k[first]][np.cumsum(first) - 1]  # held until the next instant
-    # Is (assigned, k) a stored, unblocked sample?  Look up by key time*S + sat.
+    # Is (assigned, k) a stored sample?  Look up by key time*S + sat.
     S = max(len(tracks.fleet), 1)
     keys = t.astype(np.int64) * S + sat
     want = k * S + np.maximum(assigned, 0)
@@ -112,7 +129,16 @@ def schedule_down(tracks: SkyTracks, blocked: np.ndarray, reassign_s: float) -> 
     found = (keys.size > 0) & (assigned >= 0)
     if keys.size:
         found &= keys[pos] == want
-        up = found & ~blocked[pos]
+    return Assignment(first, np.where(found, pos, -1))
+
+
+def down_under(assignment: Assignment, blocked: np.ndarray) -> np.ndarray:
+    """Per sample time: is the link down under the reassignment model, given which
+    stored samples are blocked?  Cheap: the mask-free part is in ``assignment``."""
+    first, sample = assignment.first, assignment.sample
+    n = first.size
+    if blocked.size:
+        up = (sample >= 0) & ~blocked[np.maximum(sample, 0)]
     else:
         up = np.zeros(n, dtype=bool)
     down = ~up
@@ -121,6 +147,23 @@ def schedule_down(tracks: SkyTracks, blocked: np.ndarray, reassign_s: float) -> 
     slot_start = np.flatnonzero(first)
     before = np.repeat(cs[slot_start] - down[slot_start], np.diff(np.append(slot_start, n)))
     return (cs - before) > 0
+
+
+def schedule_down(tracks: SkyTracks, blocked: np.ndarray, reassign_s: float) -> np.ndarray:
+    """Per sample time: is the link down under the reassignment model?"""
+    return down_under(schedule_assignment(tracks, reassign_s), blocked)
+
+
+def availability_of(tracks: SkyTracks, blocked: np.ndarray) -> float:
+    """Share of sample times with at least one usable, unblocked satellite."""
+    n = tracks.count
+    clear_times = np.bincount(tracks.time_index[~blocked], minlength=n) > 0
+    return float(clear_times.mean()) if n else 0.0
+
+
+def interruption_of(down: np.ndarray) -> float:
+    """Share of sample times the link is down (1.0 for an empty window)."""
+    return float(down.mean()) if down.size else 1.0
 
 
 def runs(flags: np.ndarray) -> list[Outage]:
@@ -180,14 +223,12 @@ def verdict_for(blocked_fraction: float | None, interruption: float, availabilit
 def assess(tracks: SkyTracks, mask: HorizonMask, criteria: Criteria = Criteria(),
            schedule: Schedule = Schedule()) -> Assessment:
     """All figures for one site.  Cheap: tracks are reused across horizon edits."""
-    n = tracks.count
     blocked = blocked_samples(tracks, mask)
     usable = len(tracks)
     n_blocked = int(blocked.sum())
-    clear_times = np.bincount(tracks.time_index[~blocked], minlength=n) > 0
-    availability = float(clear_times.mean()) if n else 0.0
+    availability = availability_of(tracks, blocked)
     down = schedule_down(tracks, blocked, schedule.reassign_s)
-    interruption = float(down.mean()) if n else 1.0
+    interruption = interruption_of(down)
     warnings = []
     if usable == 0:
         warnings.append("no satellite rises above the minimum elevation in this window: "
