@@ -17,6 +17,7 @@ from . import __version__
 from .errors import InputError, Problems
 from .fileio import atomic_write_bytes
 from .pipeline import FleetChoice, SiteRun, result_dict, run_site
+from .report import format_for, load_report_inputs, write_report
 from .safety import short_note
 from .site import load_site, parse_time
 
@@ -34,21 +35,47 @@ def build_parser() -> argparse.ArgumentParser:
     a = sub.add_parser("assess", help="assess one site: blocked sky, availability, outages, verdict",
                        description="Assess one site file against a satellite fleet over a time window.")
     a.add_argument("site", metavar="SITE", help="site file (site.toml)")
-    fleet = a.add_mutually_exclusive_group()
-    fleet.add_argument("--shells", metavar="FILE", type=Path, help="Walker shell file (TOML)")
-    fleet.add_argument("--tle", metavar="FILE", type=Path,
-                       help="element sets: TLE (2- or 3-line) or CCSDS OMM (XML, CSV, JSON)")
-    a.add_argument("--start", metavar="ISO", help="window start, UTC, e.g. 2026-06-01T00:00:00Z")
-    a.add_argument("--hours", metavar="H", type=float, help="window length in hours (default 24)")
-    a.add_argument("--step", metavar="S", type=float, help="sample step in seconds (default 15)")
-    a.add_argument("--min-elevation", metavar="DEG", type=float,
-                   help="override the terminal's minimum elevation")
+    _add_run_options(a)
     a.add_argument("--json", action="store_true", help="print one JSON object instead of the summary")
     a.add_argument("--plot", metavar="PNG", type=Path, help="write a sky plot (PNG)")
+    r = sub.add_parser("report", help="write the site report to hand over: PDF, HTML or JSON",
+                       description="Assess one site and write its report; the format follows the "
+                                   "--out file's extension (.pdf, .html, .json).")
+    r.add_argument("site", metavar="SITE", help="site file (site.toml), or a report .json to make again")
+    r.add_argument("--out", metavar="FILE", type=Path, required=True, help="report file: .pdf, .html or .json")
+    r.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper size (default a4)")
+    _add_run_options(r)
     return p
 
 
-def _check_assess_args(args) -> None:
+def _add_run_options(p) -> None:
+    """The fleet and window options every command that assesses a site takes."""
+    fleet = p.add_mutually_exclusive_group()
+    fleet.add_argument("--shells", metavar="FILE", type=Path, help="Walker shell file (TOML)")
+    fleet.add_argument("--tle", metavar="FILE", type=Path,
+                       help="element sets: TLE (2- or 3-line) or CCSDS OMM (XML, CSV, JSON)")
+    p.add_argument("--start", metavar="ISO", help="window start, UTC, e.g. 2026-06-01T00:00:00Z")
+    p.add_argument("--hours", metavar="H", type=float, help="window length in hours (default 24)")
+    p.add_argument("--step", metavar="S", type=float, help="sample step in seconds (default 15)")
+    p.add_argument("--min-elevation", metavar="DEG", type=float,
+                   help="override the terminal's minimum elevation")
+
+
+def _folder_of(path: Path) -> Path:
+    return path.parent if str(path.parent) else Path(".")
+
+
+def _check_plot(args, problems: Problems) -> None:
+    plot = getattr(args, "plot", None)
+    if plot is None:
+        return
+    if plot.suffix.lower() != ".png":
+        problems.add("--plot", f"{plot}: expected a .png file name")
+    elif not _folder_of(plot).is_dir():
+        problems.add("--plot", f"{plot}: folder {plot.parent} does not exist")
+
+
+def _check_run_args(args) -> None:
     problems = Problems("command line")
     if args.hours is not None and not args.hours > 0:
         problems.add("--hours", f"must be greater than 0, got {args.hours:g}")
@@ -58,15 +85,19 @@ def _check_assess_args(args) -> None:
         problems.add("--min-elevation", f"{args.min_elevation:g} is outside 0 to 90 degrees")
     if args.start is not None:
         args.start = parse_time(args.start, "--start", problems)
-    if args.plot is not None:
-        if args.plot.suffix.lower() != ".png":
-            problems.add("--plot", f"{args.plot}: expected a .png file name")
-        elif not (args.plot.parent if str(args.plot.parent) else Path(".")).is_dir():
-            problems.add("--plot", f"{args.plot}: folder {args.plot.parent} does not exist")
+    _check_plot(args, problems)
     for opt in ("shells", "tle"):
         f = getattr(args, opt)
         if f is not None and not f.is_file():
             problems.add(f"--{opt}", f"{f}: file not found")
+    out = getattr(args, "out", None)
+    if out is not None:
+        try:
+            format_for(out)
+        except InputError as exc:
+            problems.add("--out", exc.problems[0])
+        if not _folder_of(out).is_dir():
+            problems.add("--out", f"{out}: folder {out.parent} does not exist")
     problems.raise_if_any()
 
 
@@ -154,7 +185,7 @@ def _wrap(text: str, first: str, rest: str | None = None, width: int = 80) -> li
 
 
 def cmd_assess(args) -> int:
-    _check_assess_args(args)
+    _check_run_args(args)
     site = load_site(args.site)
     live = sys.stderr.isatty()
     bar = _Progress("propagating", live=live, quiet=args.json)
@@ -174,12 +205,34 @@ def cmd_assess(args) -> int:
     return 0
 
 
+def cmd_report(args) -> int:
+    _check_run_args(args)
+    fleet_choice = FleetChoice(args.shells, args.tle)
+    if Path(args.site).suffix.lower() == ".json":  # a report made before: run its inputs again
+        saved = load_report_inputs(args.site)
+        site = saved.site
+        if args.shells is None and args.tle is None:
+            fleet_choice = saved.fleet_choice
+    else:
+        site = load_site(args.site)
+    bar = _Progress("propagating", live=sys.stderr.isatty(), quiet=False)
+    run = run_site(site, fleet_choice, args.start, args.hours, args.step, args.min_elevation, progress=bar)
+    bar.done()
+    out = write_report(run, args.out, paper=args.paper, fleet_choice=fleet_choice)
+    a = run.assessment
+    print(f"{site.name}: {a.verdict}, blocked {_pct(a.blocked_fraction)}")
+    print(f"report written to {out}")
+    return 0
+
+
 def main(argv=None) -> int:
     parser = build_parser()
     try:
         args = parser.parse_args(argv)
         if args.command == "assess":
             return cmd_assess(args)
+        if args.command == "report":
+            return cmd_report(args)
         parser.print_help()
         return 2
     except InputError as exc:

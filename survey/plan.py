@@ -378,6 +378,36 @@ def plan_from_tables(doc: dict, prefix: str, problems: Problems, source: str) ->
     return _collect(entries, source)
 
 
+def plan_tables(plan: Plan) -> dict:
+    """The inverse of :func:`plan_from_tables`: a plan's drawn obstacles and
+    candidates as plain TOML-style tables (metres east/north; a GeoJSON plan comes
+    out in local metres).  Skylines are left out: they come from the horizon."""
+    def xy(p):
+        return [float(p[0]), float(p[1])]
+
+    out: dict[str, list] = {}
+    for b in plan.buildings:
+        t = {"name": b.name, "footprint": [xy(p) for p in b.footprint], "height_m": b.height_m}
+        if b.ridge is not None:
+            t.update(ridge=[xy(p) for p in b.ridge], ridge_height_m=b.ridge_height_m)
+        out.setdefault("building", []).append(t)
+    for tr in plan.trees:
+        out.setdefault("tree", []).append({"name": tr.name, "at": xy(tr.at), "crown_radius_m": tr.crown_radius_m,
+                                           "height_m": tr.height_m, "growth_m_per_year": tr.growth_m_per_year})
+    for w in plan.walls:
+        out.setdefault("wall", []).append({"name": w.name, "line": [xy(p) for p in w.line], "height_m": w.height_m})
+    for kind, items in (("prism", plan.prisms), ("area", plan.areas)):
+        for x in items:
+            out.setdefault(kind, []).append({"name": x.name, "polygon": [xy(p) for p in x.polygon],
+                                             "height_m": x.height_m})
+    for pole in plan.poles:
+        out.setdefault("pole", []).append({"name": pole.name, "at": xy(pole.at), "min_height_m": pole.min_height_m,
+                                           "max_height_m": pole.max_height_m})
+    for pt in plan.points:
+        out.setdefault("point", []).append({"name": pt.name, "at": xy(pt.at), "height_m": pt.height_m})
+    return out
+
+
 def _ridge(raw, field: str, problems: Problems):
     pts = _positions(raw, field, problems, "two points [[east_m, north_m], [east_m, north_m]]")
     if pts is None:

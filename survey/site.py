@@ -91,7 +91,7 @@ class Site:
     criteria: Criteria = Criteria()
     schedule: Schedule = Schedule()
     window: dict = field(default_factory=dict)  # the [window] table as typed (start/hours/step_s)
-    survey: dict = field(default_factory=dict)  # [survey]: surveyor, organisation, customer, notes
+    survey: dict = field(default_factory=dict)  # [survey]: surveyor, organisation, customer, notes, date
     path: Path | None = None
     plan: Plan | None = None  # [plan]: obstacles and candidate spots (survey/plan.py)
 
@@ -202,8 +202,12 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     sc = Table(doc.get("schedule", {}), "schedule", problems, ("reassign_s",))
     schedule = Schedule(sc.number("reassign_s", Schedule().reassign_s, positive=True))
 
-    sv = Table(doc.get("survey", {}), "survey", problems, ("surveyor", "organisation", "customer", "notes"))
+    sv = Table(doc.get("survey", {}), "survey", problems, ("surveyor", "organisation", "customer", "notes", "date"))
     survey = {k: sv.text(k) for k in ("surveyor", "organisation", "customer", "notes") if k in sv.data}
+    if "date" in sv.data:  # when the survey was done; kept as ISO 8601 UTC text
+        when = parse_time(sv.data["date"], "survey.date", problems)
+        if when is not None:
+            survey["date"] = when.strftime("%Y-%m-%dT%H:%M:%SZ")
 
     plan = None
     if "plan" in doc:  # a GeoJSON plan is placed by the site point: only with a valid one

@@ -1,0 +1,537 @@
+"""Site report: the written record an installer leaves with every job.
+
+One content model (:func:`report_model`) feeds three formats, so the PDF, the
+HTML and the JSON always say the same thing:
+
+- PDF (fpdf2, core fonts: real, searchable text), A4 or US Letter;
+- HTML, one self-contained file with the figures embedded, readable on a phone;
+- JSON, the full assessment plus every input, so the report can be made again
+  (``leosite report old-report.json --out new.pdf``).
+
+:func:`write_report` is what the command line and the text UI call.  Files are
+written atomically.
+"""
+
+from __future__ import annotations
+
+import base64
+import hashlib
+import html
+import io
+import json
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from pathlib import Path
+
+from . import __version__
+from .assess import Assessment, Sector, assess
+from .errors import InputError
+from .fileio import atomic_write_bytes, read_text
+from .pipeline import FleetChoice, SiteRun, result_dict
+from .plan import plan_tables
+from .safety import notes_for
+from .site import Site, site_from_dict
+
+FORMATS = ("pdf", "html", "json")
+PAPERS = ("a4", "letter")
+REPORT_KIND = "leosite-site-report"
+REPORT_VERSION = 1
+RECOMMEND_MIN_SHARE = 0.05  # sectors causing less than this share of blocked time get no advice line
+MAX_RECOMMENDATIONS = 3
+MAX_OUTAGE_ROWS = 10
+
+
+# ---------------------------------------------------------------------------
+# What-if: a sector cleared
+# ---------------------------------------------------------------------------
+@dataclass(frozen=True)
+class WhatIf:
+    """The site re-assessed with one obstruction sector's mask set to zero."""
+
+    sector: Sector
+    assessment: Assessment
+
+
+def _sector_name(sec: Sector) -> str:
+    labels = ", ".join(sec.labels)
+    span = f"{_deg(sec.from_deg)}-{_deg(sec.to_deg)}"
+    return f"the {labels} at {span}" if labels else f"the obstruction at {span}"
+
+
+def what_if_cleared(run: SiteRun, sector: Sector) -> WhatIf:
+    """Re-assess ``run`` with ``sector`` cleared (the tracks are reused)."""
+    end = sector.to_deg if sector.to_deg != 360.0 else sector.from_deg
+    mask = run.mask.with_sector_cleared(sector.from_deg, end)
+    return WhatIf(sector, assess(run.tracks, mask, run.site.criteria, run.site.schedule))
+
+
+def recommendations(run: SiteRun) -> list[dict]:
+    """Plain-words advice from re-assessing with each costly sector cleared."""
+    a = run.assessment
+    out = []
+    if not a.blocked_samples:
+        return out
+    for sec in a.sectors[:MAX_RECOMMENDATIONS]:
+        if sec.blocked_share < RECOMMEND_MIN_SHARE:
+            continue
+        w = what_if_cleared(run, sec)
+        b = w.assessment
+        verb = "Trimming or removing" if _looks_like_vegetation(sec.labels) else "Clearing or mounting above"
+        text = (f"{verb} {_sector_name(sec)} (peak {_deg(sec.peak_elevation_deg)}) would cut blocked time "
+                f"from {_pct(a.blocked_fraction)} to {_pct(b.blocked_fraction)}")
+        if _pct(a.interruption) != _pct(b.interruption):
+            text += f" and interruption from {_pct(a.interruption)} to {_pct(b.interruption)}"
+        text += f"; the verdict would be {b.verdict}."
+        out.append({
+            "from_deg": round(float(sec.from_deg), 2), "to_deg": round(float(sec.to_deg), 2),
+            "labels": list(sec.labels), "blocked_share": sec.blocked_share,
+            "blocked_fraction": b.blocked_fraction, "availability": b.availability,
+            "interruption": b.interruption, "verdict": b.verdict, "text": text,
+        })
+    return out
+
+
+_VEGETATION = ("tree", "alder", "oak", "pine", "spruce", "fir", "birch", "maple", "willow", "poplar",
+               "hedge", "bush", "shrub", "wood", "forest", "canopy", "scrub", "eucalypt", "gum")
+
+
+def _looks_like_vegetation(labels) -> bool:
+    text = " ".join(labels).lower()
+    return any(word in text for word in _VEGETATION)
+
+
+# ---------------------------------------------------------------------------
+# Formatting shared by every format
+# ---------------------------------------------------------------------------
+def _pct(x, digits: int = 1) -> str:
+    return "n/a" if x is None else f"{100 * x:.{digits}f} %"
+
+
+def _deg(x: float) -> str:
+    return f"{x:.0f}°" if abs(x - round(x)) < 0.05 else f"{x:.1f}°"
+
+
+def _utc(dt: datetime) -> str:
+    return dt.astimezone(timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+
+
+def _duration(seconds: float) -> str:
+    seconds = float(seconds)
+    if seconds < 90:
+        return f"{seconds:.0f} s"
+    if seconds < 5400:
+        return f"{seconds / 60:.1f} min"
+    return f"{seconds / 3600:.1f} h"
+
+
+def _coords(lat: float, lon: float) -> str:
+    return (f"{abs(lat):.5f}° {'N' if lat >= 0 else 'S'}, "
+            f"{abs(lon):.5f}° {'E' if lon >= 0 else 'W'} (WGS84)")
+
+
+def report_id(inputs: dict, generated: datetime) -> str:
+    """A short id for the record: date plus a digest of the inputs and the time made."""
+    digest = hashlib.sha256((json.dumps(inputs, sort_keys=True) + generated.isoformat()).encode()).hexdigest()
+    return f"LS-{generated:%Y%m%d}-{digest[:6].upper()}"
+
+
+# ---------------------------------------------------------------------------
+# Inputs: everything needed to run the report again
+# ---------------------------------------------------------------------------
+def site_document(site: Site) -> dict:
+    """The site as a site.toml document (tables of plain values), with the
+    horizon points inline so no other file is needed."""
+    doc = {
+        "site": {"name": site.name, "latitude": site.latitude_deg, "longitude": site.longitude_deg,
+                 "elevation_m": site.elevation_m},
+        "mount": {"kind": site.mount.kind, "height_m": site.mount.height_m},
+        "terminal": {"min_elevation_deg": site.terminal.min_elevation_deg, "tilt_deg": site.terminal.tilt_deg,
+                     "tilt_azimuth_deg": site.terminal.tilt_azimuth_deg},
+        "horizon": {"reference": site.horizon.reference, "points": [
+            [p.azimuth_deg, p.elevation_deg] + ([p.distance_m] if p.distance_m is not None or p.label else [])
+            + ([p.label] if p.label else []) for p in site.horizon.points]},
+        "criteria": {k: getattr(site.criteria, k) for k in site.criteria.__dataclass_fields__},
+        "schedule": {"reassign_s": site.schedule.reassign_s},
+    }
+    if site.terminal.scan_half_angle_deg is not None:
+        doc["terminal"]["scan_half_angle_deg"] = site.terminal.scan_half_angle_deg
+    # A point with a label but no distance: the distance slot must still hold a number.
+    for pt in doc["horizon"]["points"]:
+        if len(pt) == 4 and pt[2] is None:
+            pt[2] = 0.0
+    if site.survey:
+        doc["survey"] = dict(site.survey)
+    if site.plan is not None:
+        doc["plan"] = plan_tables(site.plan)
+    return doc
+
+
+def report_inputs(run: SiteRun, fleet_choice: FleetChoice) -> dict:
+    kind, name, text = fleet_choice.as_embedded()
+    w = run.window
+    site_doc = site_document(run.site)
+    site_doc["window"] = {"start": w.start.strftime("%Y-%m-%dT%H:%M:%SZ"), "hours": w.hours, "step_s": w.step_s}
+    return {"site": site_doc, "fleet": {"kind": kind, "name": name, "text": text}}
+
+
+@dataclass(frozen=True)
+class SavedReport:
+    """A report JSON read back: the site and fleet to run it again."""
+
+    site: Site
+    fleet_choice: FleetChoice
+
+
+def load_report_inputs(path: str | Path) -> SavedReport:
+    """Read a report JSON's inputs (to make the report again)."""
+    path = Path(path)
+    try:
+        doc = json.loads(read_text(path, "report file"))
+    except json.JSONDecodeError as exc:
+        raise InputError(f"{path}: line {exc.lineno}: not valid JSON: {exc.msg}") from None
+    if not isinstance(doc, dict) or doc.get("report", {}).get("kind") != REPORT_KIND:
+        raise InputError(f"{path}: report.kind: not a leosite site report (expected {REPORT_KIND!r})")
+    inputs = doc.get("inputs")
+    if not isinstance(inputs, dict) or not isinstance(inputs.get("site"), dict):
+        raise InputError(f"{path}: inputs.site: missing")
+    fleet = inputs.get("fleet") or {}
+    kind = fleet.get("kind", "default")
+    if kind not in ("default", "shells", "elements"):
+        raise InputError(f"{path}: inputs.fleet.kind: {kind!r} is not one of: default, shells, elements")
+    if kind != "default" and not isinstance(fleet.get("text"), str):
+        raise InputError(f"{path}: inputs.fleet.text: missing")
+    choice = FleetChoice(embedded=(kind, f"{path} ({fleet.get('name', '')})", fleet["text"])) \
+        if kind != "default" else FleetChoice()
+    return SavedReport(site_from_dict(inputs["site"], path), choice)
+
+
+# ---------------------------------------------------------------------------
+# The content model
+# ---------------------------------------------------------------------------
+def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
+                 generated: datetime | None = None) -> dict:
+    """Everything the report says, as plain values and ready-made text.  The JSON
+    format is this model; the PDF and HTML lay it out."""
+    generated = (generated or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(microsecond=0)
+    s, a, w = run.site, run.assessment, run.window
+    result = result_dict(run)
+    inputs = report_inputs(run, fleet_choice)
+    rid = report_id(inputs, generated)
+    sv = s.survey
+
+    header = [("Site", s.name), ("Coordinates", _coords(s.latitude_deg, s.longitude_deg)),
+              ("Ground elevation", f"{s.elevation_m:g} m above sea level"),
+              ("Mount", f"{s.mount.kind}, antenna {s.mount.height_m:g} m above "
+                        + ("deck" if s.mount.kind == "marine" else "ground")),
+              ("Surveyed by", sv.get("surveyor", "") or "-"),
+              ("Organisation", sv.get("organisation", "") or "-"),
+              ("Customer", sv.get("customer", "") or "-"),
+              ("Surveyed on", _utc(datetime.fromisoformat(sv["date"].replace("Z", "+00:00")))
+               if sv.get("date") else "- (no [survey] date in the site file)"),
+              ("Report made", _utc(generated))]
+
+    o = result["outages"]
+    figures = [
+        ("Blocked fraction", _pct(a.blocked_fraction, 2), "of usable sky samples fall behind obstructions"),
+        ("Availability", _pct(a.availability, 2), "of the time at least one unblocked satellite is in view"),
+        ("Interruption", _pct(a.interruption, 2),
+         f"of the time the link is down (reassigned every {s.schedule.reassign_s:g} s)"),
+        ("Outages a day", f"{o['count_per_day']:.1f}", "drop-outs per day under the scheduling model"),
+        ("Down time a day", f"{o['minutes_per_day']:.1f} min", "minutes per day"),
+        ("Longest outage", _duration(o["longest_s"]), "single longest drop-out in the window"),
+    ]
+
+    epochs = run.fleet.epochs_utc()
+    if run.fleet.illustrative:
+        epoch_text = f"generated at the window start, {_utc(w.start)} (illustrative, not a real constellation)"
+    elif epochs:
+        lo, hi = min(epochs), max(epochs)
+        epoch_text = _utc(lo) if (hi - lo).total_seconds() < 60 else f"{_utc(lo)} to {_utc(hi)}"
+    else:
+        epoch_text = "-"
+    groups = ", ".join(f"{k} ({v})" for k, v in run.fleet.groups.items())
+    fov = "none set: all sky above the minimum elevation"
+    if s.terminal.scan_half_angle_deg is not None:
+        fov = (f"cone of {s.terminal.scan_half_angle_deg:g}° half-angle around a boresight tilted "
+               f"{s.terminal.tilt_deg:g}° toward {s.terminal.tilt_azimuth_deg:g}° (true)")
+    setup = [
+        ("Satellites", f"{len(run.fleet):,} from {run.fleet.source}"),
+        ("Shells or groups", groups or "-"),
+        ("Element epoch", epoch_text),
+        ("Window", f"{_utc(w.start)}, {w.hours:g} h at {w.step_s:g} s steps ({w.count:,} sample times)"),
+        ("Minimum elevation", f"{s.terminal.min_elevation_deg:g}°"),
+        ("Field of view", fov),
+        ("Usable sky samples", f"{a.usable_samples:,} satellite positions, {a.blocked_samples:,} of them blocked"),
+    ]
+
+    sectors = [{
+        "span": f"{_deg(sec.from_deg)}-{_deg(sec.to_deg)}", "peak": _deg(sec.peak_elevation_deg),
+        "labels": ", ".join(sec.labels) or "(unlabelled)", "share": _pct(sec.blocked_share),
+        "if_cleared": _pct(sec.blocked_fraction_if_cleared, 2),
+    } for sec in a.sectors]
+
+    events = sorted(o["events"], key=lambda e: -e["duration_s"])[:MAX_OUTAGE_ROWS]
+    outage_rows = [{"start": e["start"].replace("T", " ").replace("Z", " UTC"),
+                    "duration": _duration(e["duration_s"])} for e in sorted(events, key=lambda e: e["start"])]
+
+    dec = run.declination.declination_deg
+    true_points = s.horizon.to_true(dec).points
+    horizon_rows = [{
+        "measured": f"{p.azimuth_deg:g}°", "true": f"{q.azimuth_deg:.1f}°", "elevation": f"{p.elevation_deg:g}°",
+        "distance": "-" if p.distance_m is None else f"{p.distance_m:g} m", "label": p.label or "",
+    } for p, q in zip(s.horizon.points, true_points)]
+    if s.horizon.reference == "magnetic":
+        bearing_note = (f"Bearings were taken with a compass (magnetic). Declination {dec:+.2f}° "
+                        f"(WMM2025 at the site on {w.start:%Y-%m-%d}) was applied: true = magnetic + declination.")
+    else:
+        bearing_note = (f"Bearings are true (referred to true north); no declination applied. "
+                        f"For reference, the WMM2025 declination here is {dec:+.2f}°.")
+    if not s.horizon.points:
+        bearing_note = "No horizon points were measured: the sky is taken as clear to the horizon."
+
+    return {
+        "report": {"kind": REPORT_KIND, "version": REPORT_VERSION, "id": rid,
+                   "generated": generated.strftime("%Y-%m-%dT%H:%M:%SZ"), "leosite_version": __version__},
+        "title": "Sky survey and obstruction report",
+        "header": header,
+        "verdict": a.verdict, "verdict_reason": a.verdict_reason[:1].upper() + a.verdict_reason[1:],
+        "figures": figures,
+        "setup": setup,
+        "sectors": sectors,
+        "recommendations": recommendations(run),
+        "outages": {"count": len(a.outages), "rows": outage_rows, "longest_first": len(o["events"]) > len(events)},
+        "horizon": {"note": bearing_note, "rows": horizon_rows},
+        "notes": sv.get("notes", ""),
+        "warnings": list(run.warnings),
+        "method": method_text(run),
+        "not_modelled": NOT_MODELLED,
+        "safety": list(notes_for(s.mount.kind)),
+        "result": result,
+        "inputs": inputs,
+    }
+
+
+NOT_MODELLED = [
+    "rain fade, snow or ice on the terminal, and atmospheric losses",
+    "foliage growth and seasonal leaf cover, unless given in a site plan",
+    "network capacity, congestion and the operator's own scheduling and beam planning",
+    "terminal faults, power cuts and cabling problems",
+    "motion of vehicles and vessels (heading, roll, pitch): assessed as a fixed mount",
+]
+
+
+def method_text(run: SiteRun) -> list[str]:
+    s = run.site
+    return [
+        "Orbits: every satellite is propagated with SGP4 (Vallado et al. 2006, 'Revisiting Spacetrack "
+        "Report #3', through the sgp4 package) and turned into azimuth and elevation at the antenna: "
+        "TEME to Earth-fixed by GMST 1982, observer on the WGS84 ellipsoid at ground elevation plus mount height.",
+        "Walker shells: T = planes x per-plane satellites, circular orbits with the window start as epoch "
+        "(Walker 1984). Element sets from files are used as given; their epochs are listed above.",
+        "Compass bearings are turned to true bearings with the World Magnetic Model WMM2025 (NOAA NCEI and BGS).",
+        "Horizon mask: straight lines between measured points, wrapping through north. A satellite sample "
+        f"counts as usable sky at or above {s.terminal.min_elevation_deg:g}° elevation (and inside the "
+        "field-of-view cone when one is set); it is blocked when it lies below the mask at its azimuth.",
+        f"Scheduling model: every {s.schedule.reassign_s:g} s the network assigns the highest usable satellite, "
+        "not knowing the local obstructions; if that satellite is blocked the link is down until the next "
+        "reassignment. Blocked fraction is the share of usable samples behind obstructions; availability is "
+        "the share of time with at least one unblocked satellite (the best an obstruction-aware network could do).",
+        "Verdict thresholds: qualified up to {:.0%} blocked and {:.0%} interruption, marginal up to {:.0%} and "
+        "{:.0%}; not-qualified below {:.0%} availability.".format(
+            s.criteria.qualified_max_blocked, s.criteria.qualified_max_interruption,
+            s.criteria.marginal_max_blocked, s.criteria.marginal_max_interruption, s.criteria.min_availability),
+        "What-if figures re-assess the same satellite tracks with that sector's mask set to zero.",
+    ]
+
+
+# ---------------------------------------------------------------------------
+# Figures
+# ---------------------------------------------------------------------------
+def report_figures(run: SiteRun) -> dict:
+    """The report's figures as PIL images, at print resolution."""
+    from . import render  # Pillow drawing only when a figure is wanted
+
+    return {
+        "sky": render.sky_plot_for_run(run, size_px=1400),
+        "panorama": render.horizon_panorama_for_run(run),
+        "timeline": render.outage_timeline_for_run(run),
+    }
+
+
+FIGURE_CAPTIONS = {
+    "sky": "Sky plot, north up, zenith in the centre. Shading: time satellites spend in each part of the sky; "
+           "hatched: the measured obstruction; dashed ring: the terminal's minimum elevation.",
+    "panorama": "The horizon unrolled: azimuth along the bottom, elevation up the side, satellite track "
+                "density behind the measured skyline. Marked points are the measurements.",
+    "timeline": "When the drop-outs happen: one row per day (UTC), dark bars are time the link is down "
+                "under the scheduling model.",
+}
+
+
+def _png(image) -> bytes:
+    buf = io.BytesIO()
+    image.save(buf, format="PNG", compress_level=6)
+    return buf.getvalue()
+
+
+# ---------------------------------------------------------------------------
+# Writers
+# ---------------------------------------------------------------------------
+def format_for(path: str | Path) -> str:
+    """The report format from the file name's extension (pdf, html/htm, json)."""
+    ext = Path(path).suffix.lower().lstrip(".")
+    ext = {"htm": "html"}.get(ext, ext)
+    if ext not in FORMATS:
+        raise InputError(f"{path}: expected a .pdf, .html or .json file name")
+    return ext
+
+
+def render_report(run: SiteRun, fmt: str, paper: str = "a4", fleet_choice: FleetChoice = FleetChoice(),
+                  generated: datetime | None = None) -> bytes:
+    """The report as file contents in ``fmt`` (pdf | html | json)."""
+    model = report_model(run, fleet_choice, generated)
+    if fmt == "json":
+        return (json.dumps(_json_model(model), indent=2, ensure_ascii=False) + "\n").encode("utf-8")
+    figures = report_figures(run)
+    if fmt == "html":
+        return render_html(model, figures).encode("utf-8")
+    if fmt == "pdf":
+        from .report_pdf import render_pdf  # fpdf2 only for PDF
+
+        return render_pdf(model, figures, paper, FIGURE_CAPTIONS)
+    raise ValueError(f"unknown report format {fmt!r}")
+
+
+def _json_model(model: dict) -> dict:
+    """The JSON file: the report's identity, the full assessment, what it advises, and the inputs."""
+    return {
+        "report": model["report"],
+        "result": model["result"],
+        "recommendations": model["recommendations"],
+        "method": model["method"],
+        "not_modelled": model["not_modelled"],
+        "safety": model["safety"],
+        "inputs": model["inputs"],
+    }
+
+
+def write_report(run: SiteRun, out: str | Path, paper: str = "a4", fleet_choice: FleetChoice = FleetChoice(),
+                 generated: datetime | None = None) -> Path:
+    """Write the report to ``out`` (format from its extension), atomically."""
+    out = Path(out)
+    fmt = format_for(out)
+    if paper not in PAPERS:
+        raise InputError(f"--paper: {paper!r} is not one of: {', '.join(PAPERS)}")
+    atomic_write_bytes(out, render_report(run, fmt, paper, fleet_choice, generated))
+    return out
+
+
+# ---------------------------------------------------------------------------
+# HTML
+# ---------------------------------------------------------------------------
+_CSS = """
+:root { --ink: #1a1a1a; --soft: #555; --rule: #bbb; --band: #f2f2f2; }
+* { box-sizing: border-box; }
+body { font: 16px/1.45 system-ui, -apple-system, "Segoe UI", Roboto, sans-serif; color: var(--ink);
+       margin: 0 auto; padding: 1rem; max-width: 56rem; }
+h1 { font-size: 1.5rem; margin: 0 0 .2rem; } h2 { font-size: 1.15rem; margin: 1.6rem 0 .5rem;
+     border-bottom: 2px solid var(--ink); padding-bottom: .15rem; }
+.id { color: var(--soft); font-size: .9rem; }
+table { border-collapse: collapse; width: 100%; font-size: .95rem; }
+th, td { text-align: left; padding: .3rem .5rem; border-bottom: 1px solid var(--rule); vertical-align: top; }
+th { background: var(--band); }
+.scroll { overflow-x: auto; }
+.kv th { width: 11rem; background: none; font-weight: 600; }
+.verdict { border: 3px solid var(--ink); padding: .6rem .8rem; margin: 1rem 0; }
+.verdict b { font-size: 1.35rem; letter-spacing: .04em; }
+.verdict.qualified { border-left: 14px solid #009E73; }
+.verdict.marginal { border-left: 14px dashed #E69F00; }
+.verdict.not-qualified { border-left: 14px double #D55E00; }
+figure { margin: 1rem 0; } figure img { width: 100%; height: auto; border: 1px solid var(--rule); }
+figcaption { color: var(--soft); font-size: .9rem; }
+.num { text-align: right; white-space: nowrap; }
+.safety { border: 2px solid var(--ink); padding: .4rem 1rem; background: var(--band); }
+.sign { display: grid; grid-template-columns: 1fr 1fr; gap: 1.5rem; margin-top: 1rem; }
+.sign div { border-top: 1px solid var(--ink); padding-top: .3rem; min-height: 4.5rem; }
+@media (max-width: 36rem) { .sign { grid-template-columns: 1fr; } .kv th { width: auto; } body { font-size: 15px; } }
+@media print { body { max-width: none; } h2 { break-after: avoid; } figure, table { break-inside: avoid; } }
+"""
+
+
+def _e(text) -> str:
+    return html.escape(str(text), quote=True)
+
+
+def _kv_table(rows) -> str:
+    body = "".join(f"<tr><th>{_e(k)}</th><td>{_e(v)}</td></tr>" for k, v in rows)
+    return f'<div class="scroll"><table class="kv">{body}</table></div>'
+
+
+def _grid_table(head, rows, numeric=()) -> str:
+    th = "".join(f'<th class="num">{_e(h)}</th>' if i in numeric else f"<th>{_e(h)}</th>"
+                 for i, h in enumerate(head))
+    trs = "".join("<tr>" + "".join(f'<td class="num">{_e(c)}</td>' if i in numeric else f"<td>{_e(c)}</td>"
+                                   for i, c in enumerate(r)) + "</tr>" for r in rows)
+    return f'<div class="scroll"><table><thead><tr>{th}</tr></thead><tbody>{trs}</tbody></table></div>'
+
+
+def _figure_html(image, alt: str, caption: str) -> str:
+    data = base64.b64encode(_png(image)).decode("ascii")
+    return (f'<figure><img src="data:image/png;base64,{data}" alt="{_e(alt)}">'
+            f"<figcaption>{_e(caption)}</figcaption></figure>")
+
+
+def render_html(model: dict, figures: dict) -> str:
+    """One self-contained HTML page (figures as data URIs), readable on a phone."""
+    r = model["report"]
+    name = model["header"][0][1]
+    parts = [
+        "<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
+        '<meta name="viewport" content="width=device-width, initial-scale=1">',
+        f"<title>{_e(model['title'])}: {_e(name)}</title><style>{_CSS}</style></head><body>",
+        f"<header><h1>{_e(model['title'])}</h1><div class=\"id\">Report {_e(r['id'])} &middot; "
+        f"made {_e(r['generated'].replace('T', ' ').replace('Z', ' UTC'))} &middot; leosite {_e(r['leosite_version'])}"
+        "</div></header>",
+        _kv_table(model["header"]),
+        f'<section class="verdict {_e(model["verdict"])}"><b>Verdict: {_e(model["verdict"].upper())}</b>'
+        f"<br>{_e(model['verdict_reason'])}</section>",
+        "<h2>Figures</h2>",
+        _grid_table(("Figure", "Value", "Meaning"), model["figures"], numeric=(1,)),
+        "<h2>What was assessed</h2>", _kv_table(model["setup"]),
+    ]
+    if model["notes"]:
+        parts += ["<h2>Surveyor's notes</h2>", f"<p>{_e(model['notes'])}</p>"]
+    if model["warnings"]:
+        parts += ["<h2>Warnings</h2><ul>"] + [f"<li>{_e(w)}</li>" for w in model["warnings"]] + ["</ul>"]
+    parts += ["<h2>Sky view</h2>",
+              _figure_html(figures["sky"], "Sky plot of the site", FIGURE_CAPTIONS["sky"]),
+              _figure_html(figures["panorama"], "Horizon panorama", FIGURE_CAPTIONS["panorama"])]
+    parts.append("<h2>Obstructions, costliest first</h2>")
+    if model["sectors"]:
+        parts.append(_grid_table(("Azimuths (true)", "Peak", "Labels", "Share of blocked", "Blocked if cleared"),
+                                 [(x["span"], x["peak"], x["labels"], x["share"], x["if_cleared"])
+                                  for x in model["sectors"]], numeric=(1, 3, 4)))
+    else:
+        parts.append("<p>No obstruction rises above the minimum elevation.</p>")
+    if model["recommendations"]:
+        parts += ["<h3>What would help</h3><ul>"] + [f"<li>{_e(x['text'])}</li>"
+                                                     for x in model["recommendations"]] + ["</ul>"]
+    parts += ["<h2>Drop-outs over the window</h2>",
+              _figure_html(figures["timeline"], "Outage timeline", FIGURE_CAPTIONS["timeline"])]
+    out = model["outages"]
+    if out["rows"]:
+        title = "Longest drop-outs" if out["longest_first"] else "All drop-outs"
+        parts += [f"<h3>{title}</h3>", _grid_table(("Start", "Duration"),
+                                                   [(x["start"], x["duration"]) for x in out["rows"]], numeric=(1,))]
+    parts += ["<h2>Measured horizon</h2>", f"<p>{_e(model['horizon']['note'])}</p>"]
+    if model["horizon"]["rows"]:
+        parts.append(_grid_table(("Bearing as measured", "True azimuth", "Elevation", "Distance", "Label"),
+                                 [(x["measured"], x["true"], x["elevation"], x["distance"], x["label"])
+                                  for x in model["horizon"]["rows"]], numeric=(0, 1, 2, 3)))
+    parts += ["<h2>Method and sources</h2>"] + [f"<p>{_e(p)}</p>" for p in model["method"]]
+    parts += ["<p>Not modelled:</p><ul>"] + [f"<li>{_e(p)}</li>" for p in model["not_modelled"]] + ["</ul>"]
+    parts += ['<h2>Safety</h2><div class="safety"><ul>'] + [f"<li>{_e(p)}</li>" for p in model["safety"]]
+    parts += ["</ul></div>", "<h2>Sign-off</h2>", '<div class="sign">',
+              "<div>Installer: name, signature, date</div>", "<div>Customer: name, signature, date</div>",
+              "</div>", "</body></html>"]
+    return "\n".join(parts)

@@ -1,0 +1,271 @@
+"""The site report: PDF, HTML and JSON for every demo site, checked by reading
+the files back with tools we did not write (pypdf for the PDF text and page
+size, the standard library's HTML parser, Pillow for the embedded images)."""
+
+from __future__ import annotations
+
+import base64
+import io
+import json
+from datetime import datetime, timezone
+from html.parser import HTMLParser
+
+import numpy as np
+import pytest
+from PIL import Image
+from pypdf import PdfReader
+
+from survey.assess import assess
+from survey.cli import main
+from survey.horizon import HorizonMask, in_sector
+from survey.pipeline import FleetChoice, run_site
+from survey.report import load_report_inputs, recommendations, render_report, write_report
+from survey.site import load_site
+
+from .conftest import DEMO, MINIMAL_SITE
+
+DEMOS = ("alder-brook-farm", "mill-lane-terrace", "tussock-ridge-croft")
+WHEN = datetime(2026, 12, 1, 12, 0, tzinfo=timezone.utc)
+# Page sizes in PostScript points (1/72 in): ISO 216 A4 is 210 x 297 mm; ANSI US Letter is 8.5 x 11 in.
+PAGE_PT = {"a4": (210 / 25.4 * 72, 297 / 25.4 * 72), "letter": (612.0, 792.0)}
+
+
+@pytest.fixture(scope="module")
+def runs():
+    """Each demo site assessed once over a short window (6 h at 30 s keeps the suite quick)."""
+    return {d: run_site(load_site(DEMO / d / "site.toml"), hours=6, step_s=30) for d in DEMOS}
+
+
+def _pdf_text(data: bytes) -> tuple[PdfReader, str]:
+    reader = PdfReader(io.BytesIO(data))
+    return reader, "\n".join(page.extract_text() for page in reader.pages)
+
+
+@pytest.mark.parametrize("demo, paper", [(d, "a4") for d in DEMOS] + [("alder-brook-farm", "letter")])
+def test_pdf_is_text_with_the_verdict_and_blocked_fraction(runs, demo, paper):
+    run = runs[demo]
+    data = render_report(run, "pdf", paper, generated=WHEN)
+    assert data.startswith(b"%PDF-")
+    reader, text = _pdf_text(data)
+    flat = " ".join(text.split())
+    facts = json.loads(render_report(run, "json", generated=WHEN))["result"]
+    assert run.site.name in flat
+    assert f"VERDICT: {facts['verdict'].upper()}" in flat
+    # The blocked fraction as the report prints it (two decimals, per cent) equals the JSON's.
+    assert f"Blocked fraction {100 * facts['blocked_fraction']:.2f} %" in flat
+    assert f"Interruption {100 * facts['interruption']:.2f} %" in flat
+    for heading in ("Sky view", "Obstructions, costliest first", "Drop-outs over the window", "Measured horizon",
+                    "Method and sources", "Safety", "Sign-off", "SGP4", "WMM2025", "Not modelled"):
+        assert heading in flat
+    assert "fall protection" in flat and "power lines" in flat  # DESIGN.md's safety note
+    assert 2 <= len(reader.pages) <= 5  # "at most a few pages"
+    w, h = PAGE_PT[paper]
+    for page in reader.pages:
+        assert float(page.mediabox.width) == pytest.approx(w, abs=0.5)
+        assert float(page.mediabox.height) == pytest.approx(h, abs=0.5)
+    # The figures are images, the words are not: three figures embedded.
+    assert sum(len(page.images) for page in reader.pages) == 3
+
+
+def test_pdf_header_carries_the_survey_table(runs):
+    run = runs["alder-brook-farm"]
+    _, text = _pdf_text(render_report(run, "pdf", generated=WHEN))
+    flat = " ".join(text.split())
+    for key in ("surveyor", "organisation", "customer"):
+        assert run.site.survey[key] in flat
+    assert "45.31820° N, 72.64150° W" in flat
+    assert "Report LS-20261201-" in flat
+    assert "Report made 2026-12-01 12:00 UTC" in flat
+    assert "Surveyed on 2026-05-28 14:20 UTC" in flat  # [survey] date, as typed in the demo site file
+
+
+class _Page(HTMLParser):
+    def __init__(self):
+        super().__init__()
+        self.tags, self.images, self.text, self.external = [], [], [], []
+
+    def handle_starttag(self, tag, attrs):
+        self.tags.append(tag)
+        a = dict(attrs)
+        if tag == "img":
+            self.images.append(a.get("src", ""))
+        for key in ("src", "href"):
+            if a.get(key, "").startswith(("http:", "https:", "//")) or tag in ("link", "script"):
+                self.external.append((tag, a))
+
+    def handle_data(self, data):
+        self.text.append(data)
+
+
+@pytest.mark.parametrize("demo", DEMOS)
+def test_html_is_one_self_contained_page(runs, demo):
+    run = runs[demo]
+    page = _Page()
+    page.feed(render_report(run, "html", generated=WHEN).decode("utf-8"))
+    page.close()
+    text = " ".join(" ".join(page.text).split())
+    facts = run.assessment
+    assert run.site.name in text
+    assert facts.verdict.upper() in text
+    assert f"{100 * facts.blocked_fraction:.2f} %" in text
+    assert page.external == []  # nothing fetched from elsewhere: it works offline and on a phone
+    assert "meta" in page.tags and len(page.images) == 3
+    for src in page.images:
+        assert src.startswith("data:image/png;base64,")
+        img = Image.open(io.BytesIO(base64.b64decode(src.split(",", 1)[1])))
+        img.load()
+        assert img.format == "PNG" and img.width >= 1000
+
+
+def test_a_bad_survey_date_is_named(write_site, capsys):
+    site_file = write_site(MINIMAL_SITE + '[survey]\ndate = "last tuesday"\n')
+    assert main(["report", str(site_file), "--out", str(site_file.with_suffix(".pdf"))]) == 2
+    err = capsys.readouterr().err
+    assert "survey.date: expected an ISO 8601 UTC time" in err
+    assert not site_file.with_suffix(".pdf").exists()
+
+
+def test_html_escapes_what_the_installer_typed(write_site):
+    site_file = write_site(MINIMAL_SITE.replace('name = "Test yard"', 'name = "Yard <b>&</b> shed"')
+                           + '[survey]\nnotes = "<script>x</script>"\n')
+    run = run_site(load_site(site_file), hours=1, step_s=60)
+    doc = render_report(run, "html", generated=WHEN).decode()
+    assert "<script>" not in doc and "&lt;script&gt;" in doc
+    assert "Yard &lt;b&gt;&amp;&lt;/b&gt; shed" in doc
+
+
+@pytest.mark.parametrize("demo", DEMOS)
+def test_json_round_trips_to_the_same_figures(runs, demo, tmp_path):
+    run = runs[demo]
+    first = tmp_path / "first.json"
+    write_report(run, first, generated=WHEN)
+    doc = json.loads(first.read_text())
+    assert doc["result"]["blocked_fraction"] == run.assessment.blocked_fraction
+    # Run the report again from the JSON alone, as the command line does.
+    saved = load_report_inputs(first)
+    again = run_site(saved.site, saved.fleet_choice)
+    second = json.loads(render_report(again, "json", generated=WHEN))
+    for key in ("blocked_fraction", "availability", "interruption", "verdict", "usable_samples",
+                "blocked_samples", "sectors", "outages", "window", "satellites", "declination_deg"):
+        assert second["result"][key] == doc["result"][key], key
+    assert second["inputs"] == doc["inputs"]
+
+
+def test_json_from_an_element_file_carries_the_elements(tmp_path, write_site):
+    # The space station's element set that the two-line format's public descriptions use as
+    # their example (from memory; our parser verifies both checksums, so a slip would fail here).
+    tle = ("ISS (ZARYA)\n"
+           "1 25544U 98067A   08264.51782528 -.00002182  00000-0 -11606-4 0  2927\n"
+           "2 25544  51.6416 247.4627 0006703 130.5360 325.0288 15.72125391563537\n")
+    (tmp_path / "one.tle").write_text(tle)
+    site_file = write_site(MINIMAL_SITE)
+    choice = FleetChoice(elements=tmp_path / "one.tle")
+    run = run_site(load_site(site_file), choice, start=datetime(2008, 9, 20, tzinfo=timezone.utc), hours=3,
+                   step_s=30)
+    out = tmp_path / "r.json"
+    write_report(run, out, fleet_choice=choice, generated=WHEN)
+    (tmp_path / "one.tle").unlink()  # the JSON must not need the original file
+    saved = load_report_inputs(out)
+    again = run_site(saved.site, saved.fleet_choice)
+    assert again.assessment.usable_samples == run.assessment.usable_samples > 0
+
+
+def test_what_if_cleared_matches_an_independent_reassessment(runs):
+    """Each recommendation re-assessed from scratch: the mask sampled densely with
+    np.interp, zeroed over the sector, and every usable sample recounted."""
+    run = runs["alder-brook-farm"]
+    recs = recommendations(run)
+    assert recs, "the demo site's alders and barn should give advice"
+    t = run.tracks
+    knots_az, knots_el = run.mask.az_deg, run.mask.el_deg
+    for rec in recs:
+        # Independent: interpolate the original knots ourselves, then zero the sector.
+        xp = np.concatenate([knots_az - 360, knots_az, knots_az + 360])
+        fp = np.concatenate([knots_el] * 3)
+        mask_at_sample = np.interp(t.az_deg.astype(np.float64), xp, fp)
+        inside = in_sector(t.az_deg, rec["from_deg"], rec["to_deg"])
+        mask_at_sample[inside] = 0.0
+        blocked = t.el_deg < mask_at_sample
+        assert rec["blocked_fraction"] == pytest.approx(blocked.sum() / len(t), abs=2e-4)
+        # And the sector table's own "if cleared" figure says the same.
+        sec = next(s for s in run.assessment.sectors if round(s.from_deg, 2) == rec["from_deg"])
+        assert sec.blocked_fraction_if_cleared == pytest.approx(rec["blocked_fraction"], abs=1e-12)
+        assert rec["blocked_fraction"] < run.assessment.blocked_fraction
+        assert f"{100 * rec['blocked_fraction']:.1f} %" in rec["text"]
+
+
+def test_clearing_every_sector_leaves_a_clear_sky(runs):
+    run = runs["mill-lane-terrace"]
+    mask = run.mask
+    for sec in run.assessment.sectors:
+        mask = mask.with_sector_cleared(sec.from_deg, sec.to_deg if sec.to_deg != 360.0 else sec.from_deg)
+    assert assess(run.tracks, mask).blocked_samples == 0
+    assert assess(run.tracks, HorizonMask.clear()).blocked_samples == 0
+
+
+def test_report_command_writes_the_file(tmp_path, capsys):
+    out = tmp_path / "alder.pdf"
+    code = main(["report", str(DEMO / "alder-brook-farm/site.toml"), "--out", str(out), "--paper", "letter",
+                 "--hours", "2", "--step", "60"])
+    stdout, err = capsys.readouterr()
+    assert code == 0, err
+    assert f"report written to {out}" in stdout
+    assert PdfReader(out).pages[0].mediabox.width == pytest.approx(612.0)
+
+
+def test_report_command_remakes_a_report_from_its_json(tmp_path, capsys):
+    first, second = tmp_path / "a.json", tmp_path / "b.html"
+    assert main(["report", str(DEMO / "tussock-ridge-croft/site.toml"), "--out", str(first),
+                 "--hours", "1", "--step", "60"]) == 0
+    assert main(["report", str(first), "--out", str(second)]) == 0
+    capsys.readouterr()
+    assert json.loads(first.read_text())["result"]["window"]["hours"] == 1.0
+    assert "Tussock Ridge" in second.read_text()
+
+
+@pytest.mark.parametrize("argv, message", [
+    (["--out", "r.docx"], "--out: "),
+    (["--out", "missing-folder/r.pdf"], "does not exist"),
+    (["--out", "r.pdf", "--paper", "a5"], "--paper"),
+    (["--out", "r.pdf", "--hours", "-1"], "--hours"),
+])
+def test_bad_report_arguments_exit_2_with_one_line(tmp_path, capsys, monkeypatch, argv, message):
+    monkeypatch.chdir(tmp_path)
+    code = main(["report", str(DEMO / "alder-brook-farm/site.toml"), *argv])
+    out, err = capsys.readouterr()
+    assert code == 2 and message in err and "Traceback" not in err
+    assert len(err.strip().splitlines()) == 1
+    assert list(tmp_path.iterdir()) == []  # nothing written
+
+
+def test_a_failed_report_leaves_the_old_one_untouched(tmp_path, write_site, capsys):
+    out = tmp_path / "report.pdf"
+    out.write_bytes(b"the report from last week")
+    bad = write_site(MINIMAL_SITE.replace("latitude = 45.0", "latitude = 95.0"), name="bad.toml")
+    assert main(["report", str(bad), "--out", str(out)]) == 2
+    assert "site.latitude" in capsys.readouterr().err
+    assert out.read_bytes() == b"the report from last week"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["bad.toml", "report.pdf"]
+
+
+@pytest.mark.parametrize("content, message", [
+    ("{not json", "not valid JSON"),
+    ('{"report": {"kind": "something else"}}', "report.kind"),
+    ('{"report": {"kind": "leosite-site-report"}, "inputs": {"site": {"site": {"name": "x"}}}}',
+     "site.latitude: missing"),
+])
+def test_a_bad_report_json_is_a_clear_error(tmp_path, capsys, content, message):
+    src = tmp_path / "old.json"
+    src.write_text(content)
+    assert main(["report", str(src), "--out", str(tmp_path / "new.pdf")]) == 2
+    err = capsys.readouterr().err
+    assert message in err and str(src) in err and "Traceback" not in err
+    assert not (tmp_path / "new.pdf").exists()
+
+
+def test_pdf_sets_names_outside_latin1_readably(write_site):
+    site_file = write_site(MINIMAL_SITE.replace('name = "Test yard"', 'name = "Ōtaki ridge – upper paddock"'))
+    run = run_site(load_site(site_file), hours=1, step_s=60)
+    _, text = _pdf_text(render_report(run, "pdf", generated=WHEN))
+    assert "Otaki ridge - upper paddock" in " ".join(text.split())
+    assert "Ōtaki ridge – upper paddock" in render_report(run, "html", generated=WHEN).decode()
