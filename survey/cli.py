@@ -45,6 +45,27 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--out", metavar="FILE", type=Path, required=True, help="report file: .pdf, .html or .json")
     r.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper size (default a4)")
     _add_run_options(r)
+    h = sub.add_parser("horizon", help="the horizon the site plan makes at another point",
+                       description="Derive the horizon at a point of the site plan from its obstacles and the "
+                                   "measured points that carry a distance.")
+    h.add_argument("site", metavar="SITE", help="site file (site.toml) with a plan or distances")
+    h.add_argument("--at", metavar="EAST,NORTH,HEIGHT", required=True,
+                   help="metres east and north of the site point, antenna height above ground")
+    h.add_argument("--years", metavar="N", type=float, default=0.0, help="grow the trees by N years")
+    h.add_argument("--json", action="store_true", help="print one JSON object")
+    h.add_argument("--plot", metavar="PNG", type=Path, help="write the derived horizon as a panorama (PNG)")
+    sp = sub.add_parser("spots", help="rank the plan's candidate mounting spots and pole heights",
+                        description="Rank every candidate spot of the site plan (mounting areas on a grid, "
+                                    "poles over their height range, fixed points) by blocked sky.")
+    sp.add_argument("site", metavar="SITE", help="site file (site.toml) with a [plan]")
+    sp.add_argument("--years", metavar="N", type=float, default=0.0, help="grow the trees by N years")
+    sp.add_argument("--spacing", metavar="M", type=float, default=0.5,
+                    help="grid spacing over mounting areas, metres (default 0.5)")
+    sp.add_argument("--target-blocked", metavar="F", type=float,
+                    help="blocked fraction a pole must reach (default: the site's qualified limit)")
+    sp.add_argument("--json", action="store_true", help="print one JSON object")
+    sp.add_argument("--plot", metavar="PNG", type=Path, help="write the site plan figure (PNG)")
+    _add_run_options(sp)
     return p
 
 
@@ -225,6 +246,117 @@ def cmd_report(args) -> int:
     return 0
 
 
+def _parse_at(text: str) -> tuple[float, float, float]:
+    parts = text.split(",")
+    try:
+        if len(parts) != 3:
+            raise ValueError
+        return tuple(float(x) for x in parts)
+    except ValueError:
+        raise InputError(f"command line: --at: expected EAST,NORTH,HEIGHT in metres, e.g. 8,-4,6.5; "
+                         f"got {text!r}") from None
+
+
+def cmd_horizon(args) -> int:
+    problems = Problems("command line")
+    _check_plot(args, problems)
+    problems.raise_if_any()
+    east, north, height = _parse_at(args.at)
+    site = load_site(args.site)
+    from .spots import horizon_at
+
+    derived = horizon_at(site, east, north, height, years=args.years)
+    if args.plot is not None:
+        from .render import derived_horizon_png
+
+        atomic_write_bytes(args.plot, derived_horizon_png(site, derived))
+    if args.json:
+        print(json.dumps(derived))
+        return 0
+    el = derived["elevation_deg"]
+    grown = f", trees grown {args.years:g} years" if args.years else ""
+    print(f"{site.name}: horizon at {east:g} m east, {north:g} m north, {height:g} m up{grown}")
+    print(f"  (true azimuths; highest {max(el):.1f}° at {el.index(max(el))}°)")
+    for row in range(0, 360, 60):
+        print("  " + "  ".join(f"{a:3d}° {el[a]:4.1f}°" for a in range(row, row + 60, 10)))
+    if args.plot is not None:
+        print(f"\n  panorama written to {args.plot}")
+    return 0
+
+
+def format_spots(run: SiteRun, ranking) -> str:
+    """The spot ranking, fitted to an 80-column terminal: the best spot, then the
+    best position of each named candidate, pole heights, and growth."""
+    s, a = run.site, run.assessment
+    grown = f", trees grown {ranking.years:g} years" if ranking.years else ""
+    b = ranking.best
+    lines = [f"{s.name}: {len(ranking.results):,} candidate spots ranked{grown}",
+             f"  survey point   blocked {_pct(a.blocked_fraction):>9}, interruption {_pct(a.interruption)}"
+             f"  (measured horizon, {s.mount.height_m:g} m up)",
+             f"  BEST  {b.candidate.name} at {b.candidate.height_m:g} m "
+             f"({b.candidate.east_m:.1f} E, {b.candidate.north_m:.1f} N): blocked {_pct(b.blocked_fraction)}, "
+             f"interruption {_pct(b.interruption)}", "",
+             "  best position of each candidate",
+             f"    {'spot':<22} {'kind':<5} {'east m':>7} {'north m':>7} {'height':>7} {'blocked':>9} "
+             f"{'interrupt':>9}"]
+    seen = set()
+    for r in ranking.results:
+        c = r.candidate
+        if (c.kind, c.name) in seen:
+            continue
+        seen.add((c.kind, c.name))
+        name = c.name if len(c.name) <= 22 else c.name[:21] + "…"
+        lines.append(f"    {name:<22} {c.kind:<5} {c.east_m:7.1f} {c.north_m:7.1f} {c.height_m:6.2f}m "
+                     f"{_pct(r.blocked_fraction):>9} {_pct(r.interruption):>9}")
+    if ranking.poles:
+        lines += ["", f"  poles: lowest height with blocked at most {_pct(ranking.target_blocked)}"]
+        for p in ranking.poles:
+            if p.lowest is None:
+                best_here = min((r for r in ranking.results if r.candidate.kind == "pole"
+                                 and r.candidate.name == p.pole), key=lambda r: r.blocked_fraction or 0.0)
+                lines.append(f"    {p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): no height reaches it; "
+                             f"best {_pct(best_here.blocked_fraction)} at {best_here.candidate.height_m:g} m")
+            else:
+                lines.append(f"    {p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): "
+                             f"{p.lowest.candidate.height_m:g} m, blocked {_pct(p.lowest.blocked_fraction)}")
+    if ranking.over_time:
+        lines += ["", "  the best spot as the trees grow"]
+        cells = [f"{y:g} y {_pct(r.blocked_fraction)}" for y, r in ranking.over_time]
+        lines += _wrap(", ".join(cells), "    ")
+    if ranking.warnings or run.warnings:
+        lines += ["", "  warnings"]
+        for msg in list(ranking.warnings) + list(run.warnings):
+            lines += _wrap(msg, "    - ", "      ")
+    lines += [""] + _wrap("Safety: poles and roof brackets are work at height. " + short_note(s.mount.kind)
+                          .removeprefix("Safety: ") + " Check the pole's rating and footing, and for buried "
+                          "services before digging.", "  ")
+    return "\n".join(lines)
+
+
+def cmd_spots(args) -> int:
+    _check_run_args(args)
+    site = load_site(args.site)
+    from .spots import _check_options, rank_spots
+
+    _check_options(args.years, args.spacing, args.target_blocked)  # before the propagation, not after
+    bar = _Progress("propagating", live=sys.stderr.isatty(), quiet=args.json)
+    run = run_site(site, FleetChoice(args.shells, args.tle), args.start, args.hours, args.step,
+                   args.min_elevation, progress=bar)
+    bar.done()
+    ranking = rank_spots(run, years=args.years, spacing_m=args.spacing, target_blocked=args.target_blocked)
+    if args.plot is not None:
+        from .render import encode_png, spots_plan_figure
+
+        atomic_write_bytes(args.plot, encode_png(spots_plan_figure(run, ranking)))
+    if args.json:
+        print(json.dumps(ranking.as_dict(), indent=2))
+    else:
+        print(format_spots(run, ranking))
+        if args.plot is not None:
+            print(f"\n  plan figure written to {args.plot}")
+    return 0
+
+
 def main(argv=None) -> int:
     parser = build_parser()
     try:
@@ -233,6 +365,10 @@ def main(argv=None) -> int:
             return cmd_assess(args)
         if args.command == "report":
             return cmd_report(args)
+        if args.command == "horizon":
+            return cmd_horizon(args)
+        if args.command == "spots":
+            return cmd_spots(args)
         parser.print_help()
         return 2
     except InputError as exc:

@@ -101,6 +101,72 @@ def _looks_like_vegetation(labels) -> bool:
 
 
 # ---------------------------------------------------------------------------
+# Mounting spots (when the site file has a plan with candidates)
+# ---------------------------------------------------------------------------
+GROWTH_YEARS = (5.0, 10.0)  # the best spot re-checked this far ahead when trees grow
+MAX_SPOT_JSON = 50  # candidates listed in the JSON (best first); the count says how many there were
+
+
+def spot_ranking(run: SiteRun):
+    """The site plan's candidates ranked (spots.rank_spots), or None without any."""
+    plan = run.site.plan
+    if plan is None or not plan.has_candidates:
+        return None
+    from .spots import rank_spots
+
+    return rank_spots(run)
+
+
+def spots_section(run: SiteRun, ranking) -> dict:
+    """The report's mounting-spot section: the best position of each candidate,
+    pole heights, how the best spot holds up as trees grow, one line of advice."""
+    from .assess import verdict_for
+    from .spots import SpotEvaluator
+
+    a, crit = run.assessment, run.site.criteria
+    best = ranking.best
+    rows, seen = [], set()
+    for r in ranking.results:
+        c = r.candidate
+        if (c.kind, c.name) in seen:
+            continue
+        seen.add((c.kind, c.name))
+        rows.append({"spot": c.name, "kind": c.kind, "position": f"{c.east_m:.1f} E, {c.north_m:.1f} N",
+                     "height": f"{c.height_m:g} m", "blocked": _pct(r.blocked_fraction, 2),
+                     "interruption": _pct(r.interruption, 2)})
+    poles = []
+    for p in ranking.poles:
+        if p.lowest is None:
+            poles.append(f"{p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): no height in its range reaches "
+                         f"{_pct(p.target_blocked)} blocked.")
+        else:
+            poles.append(f"{p.pole}: {p.lowest.candidate.height_m:g} m is the lowest height with blocked at most "
+                         f"{_pct(p.target_blocked)} ({_pct(p.lowest.blocked_fraction)}).")
+    growth = []
+    plan = run.site.plan
+    if any(t.growth_m_per_year > 0 for t in plan.trees):
+        ev = SpotEvaluator(run, plan)
+        for y in GROWTH_YEARS:
+            r = ev.evaluate([best.candidate], y)[0]
+            growth.append(f"in {y:g} years: blocked {_pct(r.blocked_fraction)}, "
+                          f"interruption {_pct(r.interruption)}")
+    verdict, _ = verdict_for(best.blocked_fraction, best.interruption, best.availability, crit)
+    c = best.candidate
+    if best.blocked_fraction is not None and a.blocked_fraction is not None \
+            and best.blocked_fraction < a.blocked_fraction:
+        advice = (f"Best spot: {c.name} at {c.height_m:g} m ({c.east_m:.1f} m east, {c.north_m:.1f} m north of "
+                  f"the survey point). It would cut blocked time from {_pct(a.blocked_fraction)} to "
+                  f"{_pct(best.blocked_fraction)}; the verdict there would be {verdict}.")
+    else:
+        advice = "No candidate spot in the plan beats the survey point."
+    as_json = ranking.as_dict()
+    as_json["candidates_total"] = len(as_json["candidates"])
+    as_json["candidates"] = as_json["candidates"][:MAX_SPOT_JSON]
+    return {"count": len(ranking.results), "rows": rows, "poles": poles, "growth": growth, "advice": advice,
+            "best_verdict": verdict, "warnings": list(ranking.warnings), "json": as_json}
+
+
+# ---------------------------------------------------------------------------
 # Formatting shared by every format
 # ---------------------------------------------------------------------------
 def _pct(x, digits: int = 1) -> str:
@@ -209,7 +275,7 @@ def load_report_inputs(path: str | Path) -> SavedReport:
 # The content model
 # ---------------------------------------------------------------------------
 def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
-                 generated: datetime | None = None) -> dict:
+                 generated: datetime | None = None, ranking=None) -> dict:
     """Everything the report says, as plain values and ready-made text.  The JSON
     format is this model; the PDF and HTML lay it out."""
     generated = (generated or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(microsecond=0)
@@ -299,6 +365,7 @@ def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
         "setup": setup,
         "sectors": sectors,
         "recommendations": recommendations(run),
+        "spots": spots_section(run, ranking) if ranking is not None else None,
         "outages": {"count": len(a.outages), "rows": outage_rows, "longest_first": len(o["events"]) > len(events)},
         "horizon": {"note": bearing_note, "rows": horizon_rows},
         "notes": sv.get("notes", ""),
@@ -347,15 +414,18 @@ def method_text(run: SiteRun) -> list[str]:
 # ---------------------------------------------------------------------------
 # Figures
 # ---------------------------------------------------------------------------
-def report_figures(run: SiteRun) -> dict:
+def report_figures(run: SiteRun, ranking=None) -> dict:
     """The report's figures as PIL images, at print resolution."""
     from . import render  # Pillow drawing only when a figure is wanted
 
-    return {
+    figures = {
         "sky": render.sky_plot_for_run(run, size_px=1400),
         "panorama": render.horizon_panorama_for_run(run),
         "timeline": render.outage_timeline_for_run(run),
     }
+    if ranking is not None:
+        figures["plan"] = render.spots_plan_figure(run, ranking)
+    return figures
 
 
 FIGURE_CAPTIONS = {
@@ -365,6 +435,8 @@ FIGURE_CAPTIONS = {
                 "density behind the measured skyline. Marked points are the measurements.",
     "timeline": "When the drop-outs happen: one row per day (UTC), dark bars are time the link is down "
                 "under the scheduling model.",
+    "plan": "The site from above, north up: obstacles to scale with their heights, candidate spots coloured "
+            "by blocked fraction, the best spot starred.",
 }
 
 
@@ -389,10 +461,11 @@ def format_for(path: str | Path) -> str:
 def render_report(run: SiteRun, fmt: str, paper: str = "a4", fleet_choice: FleetChoice = FleetChoice(),
                   generated: datetime | None = None) -> bytes:
     """The report as file contents in ``fmt`` (pdf | html | json)."""
-    model = report_model(run, fleet_choice, generated)
+    ranking = spot_ranking(run)
+    model = report_model(run, fleet_choice, generated, ranking)
     if fmt == "json":
         return (json.dumps(_json_model(model), indent=2, ensure_ascii=False) + "\n").encode("utf-8")
-    figures = report_figures(run)
+    figures = report_figures(run, ranking)
     if fmt == "html":
         return render_html(model, figures).encode("utf-8")
     if fmt == "pdf":
@@ -408,6 +481,7 @@ def _json_model(model: dict) -> dict:
         "report": model["report"],
         "result": model["result"],
         "recommendations": model["recommendations"],
+        "spots": model["spots"]["json"] if model["spots"] else None,
         "method": model["method"],
         "not_modelled": model["not_modelled"],
         "safety": model["safety"],
@@ -516,6 +590,18 @@ def render_html(model: dict, figures: dict) -> str:
     if model["recommendations"]:
         parts += ["<h3>What would help</h3><ul>"] + [f"<li>{_e(x['text'])}</li>"
                                                      for x in model["recommendations"]] + ["</ul>"]
+    sp = model["spots"]
+    if sp:
+        parts += ["<h2>Mounting spots</h2>", f"<p>{_e(sp['advice'])}</p>",
+                  _figure_html(figures["plan"], "Site plan with candidate spots", FIGURE_CAPTIONS["plan"]),
+                  f"<h3>Best position of each candidate ({sp['count']:,} ranked)</h3>",
+                  _grid_table(("Spot", "Kind", "Position (m)", "Height", "Blocked", "Interruption"),
+                              [(x["spot"], x["kind"], x["position"], x["height"], x["blocked"], x["interruption"])
+                               for x in sp["rows"]], numeric=(3, 4, 5))]
+        extra = sp["poles"] + ([f"The best spot as the trees grow: {'; '.join(sp['growth'])}."]
+                               if sp["growth"] else []) + sp["warnings"]
+        if extra:
+            parts += ["<ul>"] + [f"<li>{_e(x)}</li>" for x in extra] + ["</ul>"]
     parts += ["<h2>Drop-outs over the window</h2>",
               _figure_html(figures["timeline"], "Outage timeline", FIGURE_CAPTIONS["timeline"])]
     out = model["outages"]

@@ -100,6 +100,10 @@ class _ReportPDF(FPDF):
                     row.cell(_latin1(c), style=_BOLD if key_column and i == 0 else None)
         self.set_font("Helvetica", "", BODY_PT)
 
+    def figure_height(self, image, width_mm: float) -> float:
+        """Height on the page of a figure set ``width_mm`` wide, with its caption."""
+        return width_mm * image.height / image.width + 3 * LINE_MM + 2
+
     def figure(self, image, width_mm: float, caption: str):
         h = width_mm * image.height / image.width
         cap_h = 3 * LINE_MM
@@ -173,7 +177,7 @@ def render_pdf(model: dict, figures: dict, paper: str, captions: dict) -> bytes:
 
     pdf.add_page()
     pdf.heading("Sky view")
-    pdf.figure(figures["sky"], min(130.0, pdf.epw), captions["sky"])
+    pdf.figure(figures["sky"], min(112.0, pdf.epw), captions["sky"])
     pdf.figure(figures["panorama"], pdf.epw, captions["panorama"])
 
     pdf.heading("Obstructions, costliest first")
@@ -190,7 +194,25 @@ def render_pdf(model: dict, figures: dict, paper: str, captions: dict) -> bytes:
         pdf.para("What would help (each figure re-assessed with that sector cleared):", style="B")
         pdf.bullets([x["text"] for x in model["recommendations"]])
 
-    pdf.heading("Drop-outs over the window", keep_mm=60)
+    sp = model["spots"]
+    if sp:
+        plan_w = min(112.0, pdf.epw)
+        pdf.heading("Mounting spots", keep_mm=pdf.figure_height(figures["plan"], plan_w) + 25)
+        pdf.para(sp["advice"], style="B")
+        pdf.ln(1)
+        pdf.figure(figures["plan"], plan_w, captions["plan"])
+        pdf.para(f"Best position of each candidate ({sp['count']:,} ranked):", style="B")
+        pdf.grid(("Spot", "Kind", "Position (m)", "Height", "Blocked", "Interruption"),
+                 [(x["spot"], x["kind"], x["position"], x["height"], x["blocked"], x["interruption"])
+                  for x in sp["rows"]], (pdf.epw - 126, 16, 34, 20, 26, 30),
+                 align=("LEFT", "LEFT", "LEFT", "RIGHT", "RIGHT", "RIGHT"), size=SMALL_PT + 0.5)
+        extra = sp["poles"] + ([f"The best spot as the trees grow: {'; '.join(sp['growth'])}."]
+                               if sp["growth"] else []) + sp["warnings"]
+        if extra:
+            pdf.ln(1)
+            pdf.bullets(extra, SMALL_PT + 0.5)
+
+    pdf.heading("Drop-outs over the window", keep_mm=pdf.figure_height(figures["timeline"], pdf.epw) + 12)
     pdf.figure(figures["timeline"], pdf.epw, captions["timeline"])
     out = model["outages"]
     if out["rows"]:
@@ -213,6 +235,8 @@ def render_pdf(model: dict, figures: dict, paper: str, captions: dict) -> bytes:
     for p in model["method"]:
         pdf.para(p, SMALL_PT + 0.5)
         pdf.ln(0.8)
+    if pdf.get_y() + 6 + 4.2 * len(model["not_modelled"]) > pdf.page_break_trigger:
+        pdf.add_page()  # keep the list under its lead-in line
     pdf.para("Not modelled:", SMALL_PT + 0.5, style="B")
     pdf.bullets(model["not_modelled"], SMALL_PT + 0.5)
 

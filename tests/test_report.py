@@ -63,8 +63,9 @@ def test_pdf_is_text_with_the_verdict_and_blocked_fraction(runs, demo, paper):
     for page in reader.pages:
         assert float(page.mediabox.width) == pytest.approx(w, abs=0.5)
         assert float(page.mediabox.height) == pytest.approx(h, abs=0.5)
-    # The figures are images, the words are not: three figures embedded.
-    assert sum(len(page.images) for page in reader.pages) == 3
+    # The figures are images, the words are not: sky, panorama, timeline, and the plan when there is one.
+    assert sum(len(page.images) for page in reader.pages) == 3 + (run.site.plan is not None)
+    assert ("Mounting spots" in flat) == (run.site.plan is not None)
 
 
 def test_pdf_header_carries_the_survey_table(runs):
@@ -109,7 +110,7 @@ def test_html_is_one_self_contained_page(runs, demo):
     assert facts.verdict.upper() in text
     assert f"{100 * facts.blocked_fraction:.2f} %" in text
     assert page.external == []  # nothing fetched from elsewhere: it works offline and on a phone
-    assert "meta" in page.tags and len(page.images) == 3
+    assert "meta" in page.tags and len(page.images) == 3 + (run.site.plan is not None)
     for src in page.images:
         assert src.startswith("data:image/png;base64,")
         img = Image.open(io.BytesIO(base64.b64decode(src.split(",", 1)[1])))
@@ -192,6 +193,22 @@ def test_what_if_cleared_matches_an_independent_reassessment(runs):
         assert sec.blocked_fraction_if_cleared == pytest.approx(rec["blocked_fraction"], abs=1e-12)
         assert rec["blocked_fraction"] < run.assessment.blocked_fraction
         assert f"{100 * rec['blocked_fraction']:.1f} %" in rec["text"]
+
+
+def test_the_spot_section_says_what_the_ranking_says(runs):
+    from survey.spots import rank_spots
+
+    run = runs["alder-brook-farm"]
+    ranking = rank_spots(run)
+    doc = json.loads(render_report(run, "json", generated=WHEN))
+    assert doc["spots"]["best"] == ranking.best.as_dict()
+    assert doc["spots"]["candidates_total"] == len(ranking.results)
+    _, text = _pdf_text(render_report(run, "pdf", generated=WHEN))
+    flat = " ".join(text.split())
+    b = ranking.best
+    assert f"Best spot: {b.candidate.name} at {b.candidate.height_m:g} m" in flat
+    assert f"to {100 * b.blocked_fraction:.1f} %" in flat
+    assert "as the trees grow" in flat  # the demo's alders have growth rates
 
 
 def test_clearing_every_sector_leaves_a_clear_sky(runs):
