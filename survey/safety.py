@@ -14,6 +14,8 @@ FIXED = (
     "Keep yourself, ladders, masts and cables at least 3 m (10 ft) from overhead power lines, more where "
     "local rules say so (common practice); treat every line as live.",
     "Stop in wind, rain, ice or lightning; a wet or mossy roof is a slip hazard.",
+    "Before setting a pole, locate buried services, size the footing and guys for its height and wind load, "
+    "and keep it farther from power lines than its own length (common practice).",
     "Ground and bond masts and cable shields and fit surge protection as your electrical code requires.",
     "Local building and electrical codes, the owner's rules and licensed trades come first.",
 )

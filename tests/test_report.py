@@ -286,3 +286,17 @@ def test_pdf_sets_names_outside_latin1_readably(write_site):
     _, text = _pdf_text(render_report(run, "pdf", generated=WHEN))
     assert "Otaki ridge - upper paddock" in " ".join(text.split())
     assert "Ōtaki ridge – upper paddock" in render_report(run, "html", generated=WHEN).decode()
+
+
+def test_every_report_carries_the_safety_note_for_its_mount(runs, write_site):
+    """DESIGN.md "Safety and cautions": fall protection, ladders, power lines, weather,
+    grounding and bonding, deferring to local codes; vessels get radar and rigging."""
+    from survey.safety import notes_for
+
+    flat = " ".join(_pdf_text(render_report(runs["alder-brook-farm"], "pdf", generated=WHEN))[1].split())
+    for phrase in ("fall protection", "1 in 4", "power lines", "lightning", "Ground and bond",
+                   "Local building and electrical codes", "buried services"):
+        assert phrase in flat
+    boat = write_site(MINIMAL_SITE.replace('kind = "fixed"', 'kind = "marine"'))
+    doc = json.loads(render_report(run_site(load_site(boat), hours=1, step_s=60), "json", generated=WHEN))
+    assert doc["safety"] == list(notes_for("marine")) and any("radar" in x for x in doc["safety"])
