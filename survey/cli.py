@@ -291,8 +291,8 @@ def format_spots(run: SiteRun, ranking) -> str:
     grown = f", trees grown {ranking.years:g} years" if ranking.years else ""
     b = ranking.best
     lines = [f"{s.name}: {len(ranking.results):,} candidate spots ranked{grown}",
-             f"  survey point   blocked {_pct(a.blocked_fraction):>9}, interruption {_pct(a.interruption)}"
-             f"  (measured horizon, {s.mount.height_m:g} m up)",
+             f"  survey point  blocked {_pct(a.blocked_fraction)}, interruption {_pct(a.interruption)} "
+             f"(measured, {s.mount.height_m:g} m up)",
              f"  BEST  {b.candidate.name} at {b.candidate.height_m:g} m "
              f"({b.candidate.east_m:.1f} E, {b.candidate.north_m:.1f} N): blocked {_pct(b.blocked_fraction)}, "
              f"interruption {_pct(b.interruption)}", "",
