@@ -18,7 +18,7 @@ from .errors import InputError, Problems
 from .fileio import atomic_write_bytes
 from .pipeline import FleetChoice, SiteRun, result_dict, run_site
 from .report import format_for, load_report_inputs, write_report
-from .safety import short_note
+from .safety import short_note, spot_note
 from .site import load_site, parse_time
 
 
@@ -205,14 +205,17 @@ def _wrap(text: str, first: str, rest: str | None = None, width: int = 80) -> li
                          subsequent_indent=first if rest is None else rest) or [first]
 
 
+def _run(args, site, fleet_choice: FleetChoice, quiet: bool) -> SiteRun:
+    """Assess ``site`` with the command line's window overrides, a progress bar on stderr."""
+    bar = _Progress("propagating", live=sys.stderr.isatty(), quiet=quiet)
+    run = run_site(site, fleet_choice, args.start, args.hours, args.step, args.min_elevation, progress=bar)
+    bar.done()
+    return run
+
+
 def cmd_assess(args) -> int:
     _check_run_args(args)
-    site = load_site(args.site)
-    live = sys.stderr.isatty()
-    bar = _Progress("propagating", live=live, quiet=args.json)
-    run = run_site(site, FleetChoice(args.shells, args.tle), args.start, args.hours, args.step,
-                   args.min_elevation, progress=bar)
-    bar.done()
+    run = _run(args, load_site(args.site), FleetChoice(args.shells, args.tle), quiet=args.json)
     if args.plot is not None:
         from .render import sky_plot_png
 
@@ -236,9 +239,7 @@ def cmd_report(args) -> int:
             fleet_choice = saved.fleet_choice
     else:
         site = load_site(args.site)
-    bar = _Progress("propagating", live=sys.stderr.isatty(), quiet=False)
-    run = run_site(site, fleet_choice, args.start, args.hours, args.step, args.min_elevation, progress=bar)
-    bar.done()
+    run = _run(args, site, fleet_choice, quiet=False)
     out = write_report(run, args.out, paper=args.paper, fleet_choice=fleet_choice)
     a = run.assessment
     print(f"{site.name}: {a.verdict}, blocked {_pct(a.blocked_fraction)}")
@@ -299,12 +300,9 @@ def format_spots(run: SiteRun, ranking) -> str:
              "  best position of each candidate",
              f"    {'spot':<22} {'kind':<5} {'east m':>7} {'north m':>7} {'height':>7} {'blocked':>9} "
              f"{'interrupt':>9}"]
-    seen = set()
-    for r in ranking.results:
+    best_of_each = ranking.best_of_each()
+    for r in best_of_each:
         c = r.candidate
-        if (c.kind, c.name) in seen:
-            continue
-        seen.add((c.kind, c.name))
         name = c.name if len(c.name) <= 22 else c.name[:21] + "…"
         lines.append(f"    {name:<22} {c.kind:<5} {c.east_m:7.1f} {c.north_m:7.1f} {c.height_m:6.2f}m "
                      f"{_pct(r.blocked_fraction):>9} {_pct(r.interruption):>9}")
@@ -312,8 +310,8 @@ def format_spots(run: SiteRun, ranking) -> str:
         lines += ["", f"  poles: lowest height with blocked at most {_pct(ranking.target_blocked)}"]
         for p in ranking.poles:
             if p.lowest is None:
-                best_here = min((r for r in ranking.results if r.candidate.kind == "pole"
-                                 and r.candidate.name == p.pole), key=lambda r: r.blocked_fraction or 0.0)
+                best_here = next(r for r in best_of_each if r.candidate.kind == "pole"
+                                 and (r.candidate.east_m, r.candidate.north_m) == (p.east_m, p.north_m))
                 lines.append(f"    {p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): no height reaches it; "
                              f"best {_pct(best_here.blocked_fraction)} at {best_here.candidate.height_m:g} m")
             else:
@@ -327,22 +325,17 @@ def format_spots(run: SiteRun, ranking) -> str:
         lines += ["", "  warnings"]
         for msg in list(ranking.warnings) + list(run.warnings):
             lines += _wrap(msg, "    - ", "      ")
-    lines += [""] + _wrap("Safety: poles and roof brackets are work at height. " + short_note(s.mount.kind)
-                          .removeprefix("Safety: ") + " Check the pole's rating and footing, and for buried "
-                          "services before digging.", "  ")
+    lines += [""] + _wrap(spot_note(s.mount.kind), "  ")
     return "\n".join(lines)
 
 
 def cmd_spots(args) -> int:
     _check_run_args(args)
     site = load_site(args.site)
-    from .spots import _check_options, rank_spots
+    from .spots import check_options, rank_spots
 
-    _check_options(args.years, args.spacing, args.target_blocked)  # before the propagation, not after
-    bar = _Progress("propagating", live=sys.stderr.isatty(), quiet=args.json)
-    run = run_site(site, FleetChoice(args.shells, args.tle), args.start, args.hours, args.step,
-                   args.min_elevation, progress=bar)
-    bar.done()
+    check_options(args.years, args.spacing, args.target_blocked)  # before the propagation, not after
+    run = _run(args, site, FleetChoice(args.shells, args.tle), quiet=args.json)
     ranking = rank_spots(run, years=args.years, spacing_m=args.spacing, target_blocked=args.target_blocked)
     if args.plot is not None:
         from .render import encode_png, spots_plan_figure

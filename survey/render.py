@@ -2255,14 +2255,13 @@ def spots_plan_figure(run, ranking, size=(1600, 1600)) -> Image.Image:
     """:func:`plan_figure` of a spot ranking (``spots.rank_spots``): area grid
     points as cells, each pole and fixed point at its best height, the best spot."""
     plan = run.site.plan
-    cells, markers, seen = [], [], set()
-    for r in ranking.results:  # best first, so a pole's first row is its best height
+    cells = [(r.candidate.east_m, r.candidate.north_m, ranking.spacing_m,
+              float("nan") if r.blocked_fraction is None else r.blocked_fraction)
+             for r in ranking.results if r.candidate.kind == "area"]
+    markers = []
+    for r in ranking.best_of_each():  # a pole at its best height
         c = r.candidate
-        if c.kind == "area":
-            cells.append((c.east_m, c.north_m, ranking.spacing_m,
-                          float("nan") if r.blocked_fraction is None else r.blocked_fraction))
-        elif (c.kind, c.name, c.east_m, c.north_m) not in seen:
-            seen.add((c.kind, c.name, c.east_m, c.north_m))
+        if c.kind != "area":
             markers.append(dict(name=c.name, east_m=c.east_m, north_m=c.north_m, kind=c.kind,
                                 blocked_fraction=r.blocked_fraction, height_m=c.height_m))
     b = ranking.best

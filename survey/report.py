@@ -121,16 +121,12 @@ def spots_section(run: SiteRun, ranking) -> dict:
     """The report's mounting-spot section: the best position of each candidate,
     pole heights, how the best spot holds up as trees grow, one line of advice."""
     from .assess import verdict_for
-    from .spots import SpotEvaluator
 
     a, crit = run.assessment, run.site.criteria
     best = ranking.best
-    rows, seen = [], set()
-    for r in ranking.results:
+    rows = []
+    for r in ranking.best_of_each():
         c = r.candidate
-        if (c.kind, c.name) in seen:
-            continue
-        seen.add((c.kind, c.name))
         rows.append({"spot": c.name, "kind": c.kind, "position": f"{c.east_m:.1f} E, {c.north_m:.1f} N",
                      "height": f"{c.height_m:g} m", "blocked": _pct(r.blocked_fraction, 2),
                      "interruption": _pct(r.interruption, 2)})
@@ -145,9 +141,8 @@ def spots_section(run: SiteRun, ranking) -> dict:
     growth = []
     plan = run.site.plan
     if any(t.growth_m_per_year > 0 for t in plan.trees):
-        ev = SpotEvaluator(run, plan)
         for y in GROWTH_YEARS:
-            r = ev.evaluate([best.candidate], y)[0]
+            r = ranking.evaluator.evaluate([best.candidate], y)[0]
             growth.append(f"in {y:g} years: blocked {_pct(r.blocked_fraction)}, "
                           f"interruption {_pct(r.interruption)}")
     verdict, _ = verdict_for(best.blocked_fraction, best.interruption, best.availability, crit)

@@ -47,3 +47,9 @@ def short_note(kind: str) -> str:
                 "3 m from power lines.")
     return ("Safety: fall protection on roofs, ladder at 1 in 4, 3 m from power lines, never alone; "
             "local codes first.")
+
+
+def spot_note(kind: str) -> str:
+    """One line for spot search: poles and roof brackets are work at height."""
+    return ("Safety: poles and roof brackets are work at height. " + short_note(kind).removeprefix("Safety: ")
+            + " Check the pole's rating and footing, and for buried services before digging.")

@@ -109,10 +109,23 @@ class SpotRanking:
     target_blocked: float
     survey_point: dict
     warnings: list[str] = field(default_factory=list)
+    evaluator: "SpotEvaluator | None" = field(default=None, repr=False)  # to re-check spots, e.g. as trees grow
 
     @property
     def best(self) -> SpotResult:
         return self.results[0]
+
+    def best_of_each(self) -> list[SpotResult]:
+        """The best-ranked result of each named candidate (one area, pole or
+        point), best first: what a summary table lists."""
+        out, seen = [], set()
+        for r in self.results:
+            key = (r.candidate.kind, r.candidate.name, r.candidate.east_m, r.candidate.north_m) \
+                if r.candidate.kind != "area" else ("area", r.candidate.name)
+            if key not in seen:
+                seen.add(key)
+                out.append(r)
+        return out
 
     def as_dict(self) -> dict:
         """The JSON object of ``leosite spots --json``: ``candidates`` (best first)
@@ -268,7 +281,7 @@ def _rank_key(r: SpotResult):
     return (r.blocked_fraction if r.blocked_fraction is not None else 0.0, r.interruption, r.candidate.height_m)
 
 
-def _check_options(years: float, spacing_m: float, target_blocked: float | None) -> None:
+def check_options(years: float, spacing_m: float, target_blocked: float | None) -> None:
     problems = Problems("command line")
     if not (isinstance(years, (int, float)) and math.isfinite(years) and 0 <= years <= 200):
         problems.add("--years", f"expected 0 to 200 years, got {years!r}")
@@ -298,7 +311,7 @@ def rank_spots(run, plan: Plan | None = None, years: float = 0.0, spacing_m: flo
     Trees are grown by ``years``.  ``target_blocked`` (default: the site's
     ``criteria.qualified_max_blocked``) sets the blocked fraction a pole must
     reach for its lowest adequate height."""
-    _check_options(years, spacing_m, target_blocked)
+    check_options(years, spacing_m, target_blocked)
     site = run.site
     plan = plan if plan is not None else site.plan
     where = str(site.path) if site.path else "site"
@@ -327,7 +340,8 @@ def rank_spots(run, plan: Plan | None = None, years: float = 0.0, spacing_m: flo
     survey_point = {"east_m": 0.0, "north_m": 0.0, "height_m": site.mount.height_m,
                     "blocked_fraction": a.blocked_fraction, "availability": a.availability,
                     "interruption": a.interruption, "horizon": "measured"}
-    return SpotRanking(ranked, poles, over_time, float(years), float(spacing_m), target, survey_point, warnings)
+    return SpotRanking(ranked, poles, over_time, float(years), float(spacing_m), target, survey_point, warnings,
+                       ev)
 
 
 def _warnings(site, plan: Plan, scene: Scene, cands: list[Candidate], years: float) -> list[str]:
@@ -371,7 +385,7 @@ def horizon_at(run_or_site, east_m: float, north_m: float, height_m: float, year
     ``run_or_site`` is a pipeline.SiteRun (its declination is used) or a Site
     (the WMM2025 declination at the window start, or today, when its bearings are
     magnetic)."""
-    _check_options(years, 1.0, None)
+    check_options(years, 1.0, None)
     problems = Problems("command line")
     vals = (east_m, north_m, height_m)
     if not all(isinstance(v, (int, float)) and math.isfinite(v) for v in vals):
