@@ -209,17 +209,13 @@ def site_document(site: Site) -> dict:
         "terminal": {"min_elevation_deg": site.terminal.min_elevation_deg, "tilt_deg": site.terminal.tilt_deg,
                      "tilt_azimuth_deg": site.terminal.tilt_azimuth_deg},
         "horizon": {"reference": site.horizon.reference, "points": [
-            [p.azimuth_deg, p.elevation_deg] + ([p.distance_m] if p.distance_m is not None or p.label else [])
+            [p.azimuth_deg, p.elevation_deg] + ([p.distance_m] if p.distance_m is not None else [])
             + ([p.label] if p.label else []) for p in site.horizon.points]},
         "criteria": {k: getattr(site.criteria, k) for k in site.criteria.__dataclass_fields__},
         "schedule": {"reassign_s": site.schedule.reassign_s},
     }
     if site.terminal.scan_half_angle_deg is not None:
         doc["terminal"]["scan_half_angle_deg"] = site.terminal.scan_half_angle_deg
-    # A point with a label but no distance: the distance slot must still hold a number.
-    for pt in doc["horizon"]["points"]:
-        if len(pt) == 4 and pt[2] is None:
-            pt[2] = 0.0
     if site.survey:
         doc["survey"] = dict(site.survey)
     if site.plan is not None:

@@ -152,6 +152,31 @@ def test_json_round_trips_to_the_same_figures(runs, demo, tmp_path):
     assert second["inputs"] == doc["inputs"]
 
 
+def test_site_document_reads_back_as_the_same_site(write_site):
+    """Every kind of horizon point (with and without distance or label), the plan
+    and the survey table survive site -> JSON inputs -> site."""
+    from survey.report import site_document
+    from survey.site import site_from_dict
+
+    site = load_site(write_site(MINIMAL_SITE + """
+[horizon]
+points = [[10, 5], [40, 20, "pine"], [90, 30, 12.5], [130, 35, 20.0, "barn"]]
+[survey]
+surveyor = "Test surveyor"
+date = "2026-05-01T10:00:00Z"
+[[plan.pole]]
+at = [3, 4]
+min_height_m = 2
+max_height_m = 6
+"""))
+    again = site_from_dict(json.loads(json.dumps(site_document(site))), site.path)
+    assert again.horizon == site.horizon
+    assert again.survey == site.survey
+    assert again.plan.poles == site.plan.poles
+    assert (again.mount, again.terminal, again.criteria, again.schedule) == \
+        (site.mount, site.terminal, site.criteria, site.schedule)
+
+
 def test_json_from_an_element_file_carries_the_elements(tmp_path, write_site):
     # The space station's element set that the two-line format's public descriptions use as
     # their example (from memory; our parser verifies both checksums, so a slip would fail here).
