@@ -19,6 +19,7 @@ import hashlib
 import html
 import io
 import json
+import re
 from dataclasses import dataclass
 from datetime import datetime, timezone
 from pathlib import Path
@@ -44,25 +45,17 @@ MAX_OUTAGE_ROWS = 10
 # ---------------------------------------------------------------------------
 # What-if: a sector cleared
 # ---------------------------------------------------------------------------
-@dataclass(frozen=True)
-class WhatIf:
-    """The site re-assessed with one obstruction sector's mask set to zero."""
-
-    sector: Sector
-    assessment: Assessment
-
-
 def _sector_name(sec: Sector) -> str:
     labels = ", ".join(sec.labels)
     span = f"{_deg(sec.from_deg)}-{_deg(sec.to_deg)}"
     return f"the {labels} at {span}" if labels else f"the obstruction at {span}"
 
 
-def what_if_cleared(run: SiteRun, sector: Sector) -> WhatIf:
-    """Re-assess ``run`` with ``sector`` cleared (the tracks are reused)."""
+def what_if_cleared(run: SiteRun, sector: Sector) -> Assessment:
+    """``run`` re-assessed with ``sector``'s mask set to zero (the tracks are reused)."""
     end = sector.to_deg if sector.to_deg != 360.0 else sector.from_deg
     mask = run.mask.with_sector_cleared(sector.from_deg, end)
-    return WhatIf(sector, assess(run.tracks, mask, run.site.criteria, run.site.schedule))
+    return assess(run.tracks, mask, run.site.criteria, run.site.schedule)
 
 
 def recommendations(run: SiteRun) -> list[dict]:
@@ -74,8 +67,7 @@ def recommendations(run: SiteRun) -> list[dict]:
     for sec in a.sectors[:MAX_RECOMMENDATIONS]:
         if sec.blocked_share < RECOMMEND_MIN_SHARE:
             continue
-        w = what_if_cleared(run, sec)
-        b = w.assessment
+        b = what_if_cleared(run, sec)
         verb = "Trimming or removing" if _looks_like_vegetation(sec.labels) else "Clearing or mounting above"
         text = (f"{verb} {_sector_name(sec)} (peak {_deg(sec.peak_elevation_deg)}) would cut blocked time "
                 f"from {_pct(a.blocked_fraction)} to {_pct(b.blocked_fraction)}")
@@ -91,13 +83,17 @@ def recommendations(run: SiteRun) -> list[dict]:
     return out
 
 
-_VEGETATION = ("tree", "alder", "oak", "pine", "spruce", "fir", "birch", "maple", "willow", "poplar",
-               "hedge", "bush", "shrub", "wood", "forest", "canopy", "scrub", "eucalypt", "gum")
+_VEGETATION = {"tree", "alder", "oak", "pine", "spruce", "fir", "birch", "maple", "willow", "poplar",
+               "hedge", "bush", "shrub", "wood", "woods", "forest", "canopy", "scrub", "eucalyptus", "gum",
+               "hedgerow", "conifer", "cedar", "ash", "beech", "elm", "palm"}
 
 
 def _looks_like_vegetation(labels) -> bool:
-    text = " ".join(labels).lower()
-    return any(word in text for word in _VEGETATION)
+    """Whether a sector's labels name plants (whole words, plurals too: 'alders',
+    'hedges'), so the advice says trim rather than clear ('woodshed' is not wood)."""
+    words = re.findall(r"[a-z]+", " ".join(labels).lower())
+    return any(w in _VEGETATION or w.rstrip("s") in _VEGETATION or w.removesuffix("es") in _VEGETATION
+               for w in words)
 
 
 # ---------------------------------------------------------------------------

@@ -325,3 +325,13 @@ def test_every_report_carries_the_safety_note_for_its_mount(runs, write_site):
     boat = write_site(MINIMAL_SITE.replace('kind = "fixed"', 'kind = "marine"'))
     doc = json.loads(render_report(run_site(load_site(boat), hours=1, step_s=60), "json", generated=WHEN))
     assert doc["safety"] == list(notes_for("marine")) and any("radar" in x for x in doc["safety"])
+
+
+@pytest.mark.parametrize("labels, plant", [
+    (("alders", "tall alder"), True), (("hedges",),  True), (("old oak",), True),
+    (("woodshed",), False), (("barn", "barn ridge"), False), (("fire station",), False), ((), False),
+])
+def test_advice_says_trim_only_for_plants(labels, plant):
+    from survey.report import _looks_like_vegetation
+
+    assert _looks_like_vegetation(labels) is plant
