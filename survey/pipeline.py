@@ -4,9 +4,12 @@ site through here, so they show the same numbers."""
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field, replace
 from datetime import datetime
 from pathlib import Path
+
+import numpy as np
 
 from .assess import Assessment, assess
 from .constellation import Fleet, default_fleet, parse_elements, shells_fleet
@@ -61,24 +64,104 @@ class SiteRun:
 
 
 def site_observer(site: Site) -> Observer:
-    return Observer(site.latitude_deg, site.longitude_deg, site.antenna_height_m)
+    """Where the sky tracks are computed: the survey point, where the horizon was
+    measured.  A mount placed elsewhere on the plan (``mount.at``) reuses them, as
+    the spot ranking does (survey/spots.py: an offset of d metres turns a
+    satellite's direction by at most d / range), so its figures equal the
+    ranking's for that spot."""
+    return Observer(site.latitude_deg, site.longitude_deg, site.elevation_m + site.horizon_height_m)
 
 
 def true_mask(site: Site, dec: Declination) -> HorizonMask:
-    """The site's horizon as a mask in true azimuths (compass bearings rotated)."""
+    """The mask the antenna sees, in true azimuths (compass bearings rotated): the
+    measured horizon as-is at the survey point, or, with ``mount.at``, the horizon
+    derived there (``derived_mask``)."""
+    if site.mount.at is not None:
+        return derived_mask(site, dec.declination_deg)
     return site.horizon.to_true(dec.declination_deg).mask()
 
 
+def derived_mask(site: Site, declination_deg: float) -> HorizonMask:
+    """The horizon at ``site.mount.at``, ``mount.height_m`` above ground: the plan's
+    obstacles and the measured points with a distance (seen from
+    ``site.horizon_height_m`` at the survey point), raised to the far points'
+    mask; whole degrees, the same mask as spots.SpotEvaluator.mask_for."""
+    from .plan import AZIMUTHS_DEG, derived_horizons
+    from .spots import site_scene  # spots imports assess, which imports site: keep it lazy
+
+    east, north = site.mount.at
+    surveyed = replace(site, mount=replace(site.mount, height_m=site.horizon_height_m))
+    scene, far_deg = site_scene(surveyed, declination_deg)
+    el = np.maximum(derived_horizons(scene, [east], [north], [site.mount.height_m])[0], far_deg)
+    return HorizonMask(AZIMUTHS_DEG, el)
+
+
+def mount_warnings(site: Site) -> list[str]:
+    """What a run says about a mount placed on the plan (``mount.at``)."""
+    if site.mount.at is None:
+        return []
+    from .spots import FAR_WARNING_M
+
+    east, north = site.mount.at
+    out = [f"mount at {east:.1f} m E, {north:.1f} m N on the site plan: horizon derived from the plan, "
+           "not measured there"]
+    has_near = any(p.distance_m is not None for p in site.horizon.points)
+    if not has_near and (site.plan is None or not site.plan.has_obstacles):
+        out.append("mount placed on the plan, but the site has no plan obstacle and no horizon point with a "
+                   "distance: the derived horizon is the far points only, the same anywhere")
+    elif has_near and site.measured_height_m is None:
+        out.append(f"horizon points with a distance are taken as measured {site.horizon_height_m:g} m above "
+                   "ground at the site point (the mount height); set [horizon] measured_height_m if not")
+    d = math.hypot(east, north)
+    if d > FAR_WARNING_M:
+        out.append(f"mount is {d:.0f} m from the site point, where the sky tracks are computed (more than "
+                   f"{FAR_WARNING_M:.0f} m): move the site point to the mount")
+    return out
+
+
+class TrackCache:
+    """The fleet and sky tracks of the last run, kept for the next one (the text
+    UI re-assesses after every horizon edit).  Tracks depend only on the fleet
+    file, the window, the observer point and the terminal's usable sky; when all
+    four are unchanged they are reused, so a new mask costs milliseconds."""
+
+    def __init__(self):
+        self._key = None
+        self._fleet: Fleet | None = None
+        self._tracks: SkyTracks | None = None
+
+    @staticmethod
+    def key(fleet_choice: FleetChoice, window: WindowSpec, observer: Observer, terminal) -> tuple:
+        kind, name, text = fleet_choice.as_embedded()
+        return (kind, name, hash(text), window, observer, terminal)
+
+    def get(self, key):
+        return (self._fleet, self._tracks) if key == self._key else (None, None)
+
+    def put(self, key, fleet: Fleet, tracks: SkyTracks) -> None:
+        self._key, self._fleet, self._tracks = key, fleet, tracks
+
+
 def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, hours=None,
-             step_s=None, min_elevation_deg=None, progress=None, now=None) -> SiteRun:
-    """Assess ``site``; command-line style overrides win over the site file."""
+             step_s=None, min_elevation_deg=None, progress=None, now=None,
+             cache: TrackCache | None = None) -> SiteRun:
+    """Assess ``site``; command-line style overrides win over the site file.
+    With ``cache``, the sky tracks of an identical fleet, window, observer and
+    terminal are reused instead of computed again."""
     if min_elevation_deg is not None:
         site = replace(site, terminal=replace(site.terminal, min_elevation_deg=float(min_elevation_deg)))
     window = resolve_window(site, start, hours, step_s, now=now)
-    fleet = fleet_choice.load(window.start)
+    observer = site_observer(site)
+    key = TrackCache.key(fleet_choice, window, observer, site.terminal) if cache is not None else None
+    fleet, tracks = cache.get(key) if cache is not None else (None, None)
+    if fleet is None:
+        fleet = fleet_choice.load(window.start)
     dec = declination(site.latitude_deg, site.longitude_deg, site.elevation_m, window.start)
     mask = true_mask(site, dec)
-    tracks = compute_tracks(fleet, site_observer(site), window, site.terminal, progress=progress)
+    if tracks is None:
+        tracks = compute_tracks(fleet, observer, window, site.terminal, progress=progress)
+        if cache is not None:
+            cache.put(key, fleet, tracks)
     result = assess(tracks, mask, site.criteria, site.schedule)
     notes = []
     if fleet.illustrative:
@@ -87,14 +170,23 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
     notes.extend(fleet.age_warnings(window.start))
     if site.horizon.reference == "magnetic":  # the declination only matters for compass bearings
         notes.extend(dec.warnings)
+    notes.extend(mount_warnings(site))
     if site.mount.kind != "fixed":
         notes.append(f"mount kind '{site.mount.kind}': heading, roll and route are not modelled yet; "
-                     "assessed as a fixed mount at the site point")
+                     "assessed as a fixed mount" + (" at the site point" if site.mount.at is None else ""))
     if tracks.failed_sats:
         notes.append(f"SGP4 reported errors for {tracks.failed_sats} satellites (decayed or bad elements); "
                      "their failed samples are left out")
     notes.extend(result.warnings)
     return SiteRun(site, window, fleet, dec, mask, tracks, result, notes)
+
+
+def mount_dict(site: Site) -> dict:
+    """The mount as JSON: kind, height_m, and east_m/north_m when placed on the plan."""
+    out = {"kind": site.mount.kind, "height_m": site.mount.height_m}
+    if site.mount.at is not None:
+        out.update(east_m=site.mount.at[0], north_m=site.mount.at[1])
+    return out
 
 
 def result_dict(run: SiteRun) -> dict:
@@ -103,7 +195,7 @@ def result_dict(run: SiteRun) -> dict:
     return {
         "site": {
             "name": s.name, "latitude": s.latitude_deg, "longitude": s.longitude_deg,
-            "elevation_m": s.elevation_m, "mount": {"kind": s.mount.kind, "height_m": s.mount.height_m},
+            "elevation_m": s.elevation_m, "mount": mount_dict(s),
         },
         "window": {"start": w.start.strftime("%Y-%m-%dT%H:%M:%SZ"), "hours": w.hours, "step_s": w.step_s,
                    "samples": w.count},

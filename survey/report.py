@@ -28,7 +28,7 @@ from . import __version__
 from .assess import Assessment, Sector, assess
 from .errors import InputError
 from .fileio import atomic_write_bytes, read_text
-from .pipeline import FleetChoice, SiteRun, result_dict
+from .pipeline import FleetChoice, SiteRun, mount_dict, result_dict
 from .plan import plan_tables
 from .safety import notes_for
 from .site import Site, site_from_dict
@@ -201,7 +201,7 @@ def site_document(site: Site) -> dict:
     doc = {
         "site": {"name": site.name, "latitude": site.latitude_deg, "longitude": site.longitude_deg,
                  "elevation_m": site.elevation_m},
-        "mount": {"kind": site.mount.kind, "height_m": site.mount.height_m},
+        "mount": mount_dict(site),
         "terminal": {"min_elevation_deg": site.terminal.min_elevation_deg, "tilt_deg": site.terminal.tilt_deg,
                      "tilt_azimuth_deg": site.terminal.tilt_azimuth_deg},
         "horizon": {"reference": site.horizon.reference, "points": [
@@ -212,6 +212,8 @@ def site_document(site: Site) -> dict:
     }
     if site.terminal.scan_half_angle_deg is not None:
         doc["terminal"]["scan_half_angle_deg"] = site.terminal.scan_half_angle_deg
+    if site.mount.at is not None and site.measured_height_m is not None:
+        doc["horizon"]["measured_height_m"] = site.measured_height_m
     if site.survey:
         doc["survey"] = dict(site.survey)
     if site.plan is not None:

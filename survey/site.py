@@ -15,7 +15,7 @@ from pathlib import Path
 from .errors import InputError, Problems
 from .fileio import parse_toml, read_text
 from .horizon import HorizonProfile, parse_point, read_horizon_csv
-from .plan import Plan, plan_from_site_table
+from .plan import PLAN_RADIUS_M, Plan, plan_from_site_table
 from .tables import Table
 
 MOUNT_KINDS = ("fixed", "vehicle", "marine")
@@ -24,8 +24,13 @@ REFERENCES = ("true", "magnetic")
 
 @dataclass(frozen=True)
 class Mount:
+    """Where the antenna is.  ``at`` = (east_m, north_m) on the site plan's local
+    frame places it away from the survey point (typically a spot chosen from the
+    spot ranking); None: at the survey point, where the horizon was measured."""
+
     kind: str = "fixed"  # fixed | vehicle | marine
     height_m: float = 0.0  # antenna height above ground (or deck)
+    at: tuple[float, float] | None = None  # metres east, north of the site point
 
 
 @dataclass(frozen=True)
@@ -94,6 +99,15 @@ class Site:
     survey: dict = field(default_factory=dict)  # [survey]: surveyor, organisation, customer, notes, date
     path: Path | None = None
     plan: Plan | None = None  # [plan]: obstacles and candidate spots (survey/plan.py)
+    # [horizon] measured_height_m: the height above ground at the site point the
+    # points were measured from.  While the antenna is there (no mount.at) it is
+    # the mount height, kept in step by __post_init__; moving the mount with
+    # dataclasses.replace then keeps the height the horizon was measured from.
+    measured_height_m: float | None = None
+
+    def __post_init__(self):
+        if self.mount.at is None:
+            object.__setattr__(self, "measured_height_m", self.mount.height_m)
 
     @property
     def antenna_height_m(self) -> float:
@@ -101,6 +115,13 @@ class Site:
         height above the WGS84 ellipsoid; the geoid separation (within about
         +-100 m) moves a LEO satellite's elevation by well under 0.01 degrees."""
         return self.elevation_m + self.mount.height_m
+
+    @property
+    def horizon_height_m(self) -> float:
+        """Height above ground (m) at the site point that the horizon points were
+        measured from: ``measured_height_m``, or the mount height when that is
+        not known (a placed mount's file without ``[horizon] measured_height_m``)."""
+        return self.mount.height_m if self.measured_height_m is None else self.measured_height_m
 
 
 def parse_time(text, where: str, problems: Problems) -> datetime | None:
@@ -146,8 +167,9 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     origin_ok = not any(f": site.{k}: " in p for p in problems.items for k in ("latitude", "longitude"))
     elev = s.number("elevation_m", 0.0, -500.0, 9000.0)
 
-    m = Table(doc.get("mount", {}), "mount", problems, ("kind", "height_m"))
-    mount = Mount(m.text("kind", "fixed", choices=MOUNT_KINDS), m.number("height_m", 0.0, 0.0, 500.0))
+    m = Table(doc.get("mount", {}), "mount", problems, ("kind", "height_m", "east_m", "north_m"))
+    mount = Mount(m.text("kind", "fixed", choices=MOUNT_KINDS), m.number("height_m", 0.0, 0.0, 500.0),
+                  _mount_at(m, problems))
 
     t = Table(doc.get("terminal", {}), "terminal", problems,
                ("min_elevation_deg", "tilt_deg", "tilt_azimuth_deg", "scan_half_angle_deg"))
@@ -158,8 +180,12 @@ def site_from_dict(doc: dict, path: Path) -> Site:
         t.number("scan_half_angle_deg", None, 0.0, 180.0, positive=True),
     )
 
-    h = Table(doc.get("horizon", {}), "horizon", problems, ("reference", "points", "file"))
+    h = Table(doc.get("horizon", {}), "horizon", problems, ("reference", "points", "file", "measured_height_m"))
     reference = h.text("reference", "true", choices=REFERENCES)
+    measured_height = h.number("measured_height_m", None, 0.0, 500.0)
+    if measured_height is not None and "east_m" not in m.data and "north_m" not in m.data:
+        problems.add("horizon.measured_height_m", "only with mount.east_m and mount.north_m: without them "
+                                                  "the antenna is where the horizon was measured")
     points = []
     if "points" in h.data and "file" in h.data:
         problems.add("horizon", "give either points or file, not both")
@@ -215,7 +241,30 @@ def site_from_dict(doc: dict, path: Path) -> Site:
 
     problems.raise_if_any()
     return Site(name, lat, lon, elev, mount, terminal, HorizonProfile(tuple(points), reference),
-                criteria, schedule, window, survey, path, plan)
+                criteria, schedule, window, survey, path, plan, measured_height)
+
+
+def _mount_at(m: Table, problems: Problems) -> tuple[float, float] | None:
+    """[mount] east_m and north_m: both or neither, within PLAN_RADIUS_M of the
+    site point like plan coordinates."""
+    given = [k for k in ("east_m", "north_m") if k in m.data]
+    if len(given) == 1:
+        other = "north_m" if given[0] == "east_m" else "east_m"
+        problems.add(f"mount.{other}", "missing: give mount.east_m and mount.north_m together "
+                                       "(metres east and north of the site point)")
+        return None
+    if not given:
+        return None
+    r = PLAN_RADIUS_M
+    before = len(problems.items)
+    east, north = m.number("east_m", None, -r, r), m.number("north_m", None, -r, r)
+    if len(problems.items) > before:
+        return None
+    if math.hypot(east, north) > r:
+        problems.add("mount.east_m", f"with mount.north_m {math.hypot(east, north):,.0f} m from the site point "
+                                     f"(at most {r:,.0f} m, as on a site plan)")
+        return None
+    return east, north
 
 
 def resolve_window(site: Site, start: datetime | None = None, hours: float | None = None,

@@ -210,7 +210,7 @@ def site_scene(site, declination_deg: float, plan: Plan | None = None) -> tuple[
     0..359 (degrees).  ``declination_deg`` rotates compass bearings to true."""
     plan = plan if plan is not None else (site.plan or Plan())
     points = site.horizon.to_true(declination_deg).points
-    skylines, far = measured_obstacles(points, site.mount.height_m)
+    skylines, far = measured_obstacles(points, site.horizon_height_m)  # seen from where they were measured
     far_deg = HorizonMask.from_points(far).elevation_at(AZIMUTHS_DEG) if far else np.zeros(360)
     return compile_plan(plan.with_skylines(skylines)), far_deg
 
@@ -337,7 +337,12 @@ def rank_spots(run, plan: Plan | None = None, years: float = 0.0, spacing_m: flo
     best = ranked[0].candidate
     over_time = [(y, ev.evaluate([best], y)[0]) for y in growth_years(years)]
     a = run.assessment
-    survey_point = {"east_m": 0.0, "north_m": 0.0, "height_m": site.mount.height_m,
+    if site.mount.at is not None:  # the run is at the placed mount: the survey point needs its own figures
+        from .assess import assess
+
+        a = assess(run.tracks, site.horizon.to_true(run.declination.declination_deg).mask(), site.criteria,
+                   site.schedule)
+    survey_point = {"east_m": 0.0, "north_m": 0.0, "height_m": site.horizon_height_m,
                     "blocked_fraction": a.blocked_fraction, "availability": a.availability,
                     "interruption": a.interruption, "horizon": "measured"}
     return SpotRanking(ranked, poles, over_time, float(years), float(spacing_m), target, survey_point, warnings,
