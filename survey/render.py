@@ -296,7 +296,8 @@ def _fmt_deg(v: float) -> str:
     return f"{v:.0f}\u00b0" if abs(v - round(v)) < 0.05 else f"{v:.1f}\u00b0"
 
 
-def _fmt_duration(seconds: float) -> str:
+def fmt_duration(seconds: float) -> str:
+    """A duration as captions show it: s below 90 s, min below 90 min, else h."""
     if seconds < 90:
         return f"{seconds:.0f} s"
     if seconds < 90 * 60:
@@ -653,7 +654,7 @@ def _legend(draw, lay: _Layout, ss: int, *, t_clear, t_block, d_max, has_mask,
     foot_y = y1 + n_rows * rh + 2 * u
     if d_max > 0:
         foot = ("Track density: time-weighted, log scale, light = rare, "
-                f"dark = dense; darkest \u2248 {_fmt_duration(d_max)} per 1\u00b0 cell.")
+                f"dark = dense; darkest \u2248 {fmt_duration(d_max)} per 1\u00b0 cell.")
     else:
         foot = "No visible satellite samples in this window."
     _text(draw, (m, foot_y), _fit(draw, foot, f_small, S - 2 * m), f_small,
@@ -1242,7 +1243,7 @@ def horizon_panorama(*, mask_az_deg=(), mask_el_deg=(), points=(), az_deg=(), el
             "linear." + (" Percentages: share of track time." if show_tracks else "")]
     if show_tracks and d_max > 0:
         caps.append("Track density: time-weighted, log scale, light = rare, dark = dense; "
-                    f"darkest \u2248 {_fmt_duration(d_max)} per 1\u00b0 cell.")
+                    f"darkest \u2248 {fmt_duration(d_max)} per 1\u00b0 cell.")
     elif show_tracks:
         caps.append("No usable satellite samples in this window.")
     f_cap = _font(14 * U)
@@ -1536,7 +1537,7 @@ def outage_timeline(*, start: datetime, hours: float, step_s: float, down, title
     c_label_y = rows_bottom + 40 * U
     c_top, c_bot = rows_bottom + 58 * U, rows_bottom + 108 * U
     if geo.zoom:
-        what = f"Down minutes per {_fmt_duration(geo.tick_s)}"
+        what = f"Down minutes per {fmt_duration(geo.tick_s)}"
     else:
         what = "Down minutes per hour of day" + (
             f", summed over the {geo.rows} days" if geo.rows > 1 else "")
@@ -1592,13 +1593,13 @@ def outage_timeline(*, start: datetime, hours: float, step_s: float, down, title
            f"{_fmt_minutes(total_s / 60.0)} min down in {length}" if n_runs
            else f"No drop-outs: the link stays up for all {length} of the window")
     if n_runs:
-        cap += f"; longest {_fmt_duration(longest_s)}"
+        cap += f"; longest {fmt_duration(longest_s)}"
         if days >= 1.5:
             per_day = n_runs / days
             cap += f"; {per_day:.1f} a day" if per_day < 10 else f"; {per_day:.0f} a day"
     cap += "."
     if widened:
-        cap += (f" Drop-outs shorter than {_fmt_duration(min_w / PW * geo.axis_span_s)}"
+        cap += (f" Drop-outs shorter than {fmt_duration(min_w / PW * geo.axis_span_s)}"
                 " are drawn that wide so they show.")
     _text(draw, (m, leg_y + 20 * U), _fit(draw, cap, f_small, SW - 2 * m), f_small, TEXT)
     return img.resize((W, H), Image.Resampling.LANCZOS)
@@ -2251,9 +2252,11 @@ def plan_obstacles(plan) -> list[dict]:
     return obs
 
 
-def spots_plan_figure(run, ranking, size=(1600, 1600)) -> Image.Image:
-    """:func:`plan_figure` of a spot ranking (``spots.rank_spots``): area grid
-    points as cells, each pole and fixed point at its best height, the best spot."""
+def spots_plan_inputs(run, ranking) -> tuple[list, list, list, dict]:
+    """(obstacles, cells, markers, best) of a spot ranking (``spots.rank_spots``)
+    as :func:`plan_figure` takes them: area grid points as cells, each pole and
+    fixed point at its best height, the best spot.  The text UI's plan chart
+    takes the same."""
     plan = run.site.plan
     cells = [(r.candidate.east_m, r.candidate.north_m, ranking.spacing_m,
               float("nan") if r.blocked_fraction is None else r.blocked_fraction)
@@ -2267,8 +2270,14 @@ def spots_plan_figure(run, ranking, size=(1600, 1600)) -> Image.Image:
     b = ranking.best
     best = dict(name=b.candidate.name, east_m=b.candidate.east_m, north_m=b.candidate.north_m,
                 height_m=b.candidate.height_m, blocked_fraction=b.blocked_fraction)
+    return (plan_obstacles(plan) if plan is not None else []), cells, markers, best
+
+
+def spots_plan_figure(run, ranking, size=(1600, 1600)) -> Image.Image:
+    """:func:`plan_figure` of a spot ranking (``spots.rank_spots``)."""
+    obstacles, cells, markers, best = spots_plan_inputs(run, ranking)
     grown = f"; trees grown {ranking.years:g} years" if ranking.years else ""
-    return plan_figure(obstacles=plan_obstacles(plan) if plan is not None else [], cells=cells, markers=markers,
+    return plan_figure(obstacles=obstacles, cells=cells, markers=markers,
                        best=best, title=f"{run.site.name}: mounting spots",
                        subtitle=f"{len(ranking.results):,} candidates, {_window_text(run.window)}{grown}",
                        size=size)

@@ -51,5 +51,6 @@ def short_note(kind: str) -> str:
 
 def spot_note(kind: str) -> str:
     """One line for spot search: poles and roof brackets are work at height."""
-    return ("Safety: poles and roof brackets are work at height. " + short_note(kind).removeprefix("Safety: ")
+    rest = short_note(kind).removeprefix("Safety: ")
+    return ("Safety: poles and roof brackets are work at height. " + rest[:1].upper() + rest[1:]
             + " Check the pole's rating and footing, and for buried services before digging.")

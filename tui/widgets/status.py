@@ -1,0 +1,54 @@
+"""The status line on every tab: the site, its verdict and figures, whether
+the findings are current, and whether the site is saved."""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual.reactive import reactive
+from textual.widget import Widget
+
+from ..verdicts import verdict_text
+
+
+class StatusLine(Widget):
+    site_name = reactive("")
+    verdict = reactive("")
+    blocked = reactive(None)
+    interruption = reactive(None)
+    availability = reactive(None)
+    state = reactive("")  # what the findings are: "", "computing 40 %", "stale: ...", "error: ..."
+    saved = reactive("")  # "saved 10:31:05", "unsaved", "not saved: ..."
+
+    def render(self) -> Text:
+        width = self.size.width or 80
+        right = Text()
+        if self.state:
+            right.append(f" {self.state} ", style="reverse" if self.state.startswith(("stale", "error")) else "bold")
+        if self.saved:
+            right.append("  ")
+            right.append(self.saved, style="bold" if self.saved.startswith(("unsaved", "not saved")) else "dim")
+        left = Text()
+        if self.verdict:
+            left.append_text(verdict_text(self.verdict))
+            if self.blocked is not None or self.verdict:
+                left.append(f"  blocked {_pct(self.blocked)}", style="bold")
+                left.append(f"  interr. {_pct(self.interruption)}")
+                if width >= 100:
+                    left.append(f"  avail. {_pct(self.availability)}")
+        room = width - left.cell_len - right.cell_len - 4
+        name = self.site_name or "(new site)"
+        if room < len(name):
+            name = name[:max(room - 1, 4)] + "…"
+        out = Text(" ")
+        out.append(name, style="bold")
+        out.append("  ")
+        out.append_text(left)
+        pad = width - out.cell_len - right.cell_len
+        out.append(" " * max(pad, 1))
+        out.append_text(right)
+        out.truncate(width)
+        return out
+
+
+def _pct(x) -> str:
+    return "n/a" if x is None else f"{100 * x:.1f} %"
