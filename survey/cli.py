@@ -66,6 +66,11 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--json", action="store_true", help="print one JSON object")
     sp.add_argument("--plot", metavar="PNG", type=Path, help="write the site plan figure (PNG)")
     _add_run_options(sp)
+    u = sub.add_parser("ui", help="the text UI: survey, edit and report a site on screen",
+                       description="Open the text UI on a site file, or with no SITE on a start screen "
+                                   "(new site, demo sites, open a file).")
+    u.add_argument("site", metavar="SITE", nargs="?", type=Path, help="site file (site.toml) to open")
+    _add_run_options(u)
     return p
 
 
@@ -350,10 +355,19 @@ def cmd_spots(args) -> int:
     return 0
 
 
-def main(argv=None) -> int:
+def main(argv=None, ui=None) -> int:
+    """Run one command.  ``ui`` starts the text UI with the parsed arguments; it
+    is passed in by the ``tui`` package, because the engine never imports it."""
     parser = build_parser()
     try:
         args = parser.parse_args(argv)
+        if args.command == "ui":
+            _check_run_args(args)
+            if args.site is not None:
+                load_site(args.site)  # a bad site file is one line and exit 2, before the screen opens
+            if ui is None:
+                raise InputError("ui: the text UI is started by the 'leosite' command (package tui)")
+            return ui(args)
         if args.command == "assess":
             return cmd_assess(args)
         if args.command == "report":

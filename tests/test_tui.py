@@ -1,0 +1,303 @@
+"""The text UI driven through Textual's pilot (``App.run_test``): the whole
+workflow on a demo site, and the error paths.
+
+Every figure the app shows is checked against a clean engine run of the site
+file the app saved (``pipeline.run_site`` with no cache), so the cache, the
+autosave and the screens cannot drift from the command line."""
+
+from __future__ import annotations
+
+import asyncio
+import shutil
+from pathlib import Path
+
+import pytest
+
+pytest.importorskip("textual")
+
+from survey.pipeline import run_site  # noqa: E402
+from survey.site import load_site  # noqa: E402
+from tui.app import LeositeApp  # noqa: E402
+from tui.panes.horizon_editor import HorizonEditor, parse_entry  # noqa: E402
+from tui.panes.site_form import SiteForm  # noqa: E402
+from tui.screens.dialogs import AskChoice, AskText, ExportReport, SafetyNote  # noqa: E402
+from tui.screens.start import StartScreen  # noqa: E402
+from tui.screens.workspace import Workspace  # noqa: E402
+from tui.session import Assessor, Cancelled  # noqa: E402
+from tui.widgets.status import StatusLine  # noqa: E402
+
+DEMO = Path(__file__).resolve().parent.parent / "demo_sites"
+HOURS = 4.0  # a short window keeps each pilot run to a few seconds
+
+
+def demo_copy(tmp_path: Path, name: str = "alder-brook-farm") -> Path:
+    dest = tmp_path / name
+    shutil.copytree(DEMO / name, dest)
+    return dest / "site.toml"
+
+
+def drive(coro):
+    return asyncio.run(coro)
+
+
+async def until(pilot, condition, timeout: float = 30.0, what: str = "condition"):
+    """Let the app run until ``condition()`` holds (workers run in threads)."""
+    loop = asyncio.get_running_loop()
+    end = loop.time() + timeout
+    while not condition():
+        if loop.time() > end:
+            raise AssertionError(f"timed out waiting for {what}")
+        await pilot.pause(0.05)
+
+
+def status_text(app) -> str:
+    return str(app.workspace.query_one(StatusLine).render())
+
+
+def app_for(site: Path | None, tmp_path: Path) -> LeositeApp:
+    return LeositeApp(site, Assessor(hours=HOURS), work_root=tmp_path / "work")
+
+
+async def type_text(pilot, text: str) -> None:
+    for ch in text:
+        await pilot.press({" ": "space"}.get(ch, ch))
+
+
+def test_entry_parsing_uses_the_engine_reader():
+    p, err = parse_entry("135 36")
+    assert err is None and (p.azimuth_deg, p.elevation_deg, p.distance_m, p.label) == (135, 36, None, "")
+    p, _ = parse_entry("135, 36, 35 tall alders")
+    assert (p.distance_m, p.label) == (35, "tall alders")
+    p, _ = parse_entry("200 12 barn roof")
+    assert (p.distance_m, p.label) == (None, "barn roof")
+    assert parse_entry("135")[1].startswith("expected a bearing")
+    assert "outside 0 to 90" in parse_entry("135 95")[1]  # horizon.parse_point's own wording
+    assert "positive" in parse_entry("135 20 -4")[1]
+
+
+def test_whole_workflow_open_edit_export_quit(tmp_path):
+    """Open a demo site, add a horizon point, see the findings change, export a
+    PDF (the safety note comes first), quit."""
+    site_file = demo_copy(tmp_path)
+    report = tmp_path / "alder-report.pdf"
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(120, 40)) as pilot:
+            await until(pilot, lambda: app.latest is not None, what="first assessment")
+            first = app.latest
+            text = status_text(app)
+            assert "Alder Brook farmhouse" in text and "MARGINAL" in text
+            assert f"{100 * first.assessment.blocked_fraction:.1f} %" in text
+
+            await pilot.press("f3")
+            assert app.workspace.query_one("#points").has_focus
+            await pilot.press("a")
+            await type_text(pilot, "20 70 leaning spruce")  # a tall tree to the north-north-east
+            await pilot.press("enter")
+            editor = app.workspace.query_one(HorizonEditor)
+            assert editor.profile.points[-1].label == "leaning spruce"
+            await until(pilot, lambda: app.latest is not first, what="re-assessment")
+            second = app.latest
+            assert second.tracks is first.tracks  # the horizon edit reused the cached tracks
+            assert second.assessment.blocked_fraction > first.assessment.blocked_fraction
+            assert f"{100 * second.assessment.blocked_fraction:.1f} %" in status_text(app)
+
+            await until(pilot, lambda: not app.session.dirty, what="autosave")
+            clean = run_site(load_site(site_file), hours=HOURS)  # what the command line would say
+            assert clean.assessment.blocked_samples == second.assessment.blocked_samples
+            assert clean.assessment.interruption == second.assessment.interruption
+            assert clean.assessment.verdict == second.assessment.verdict
+
+            await pilot.press("ctrl+r")
+            assert isinstance(app.screen, SafetyNote)  # shown once before the first export
+            await pilot.press("enter")
+            assert isinstance(app.screen, ExportReport)
+            field = app.screen.query_one("#answer")
+            field.value = str(report)
+            await pilot.press("enter")
+            await until(pilot, lambda: report.exists() and app.session.reports, what="report")
+            await pilot.press("ctrl+r")  # the second export goes straight to the file name
+            assert isinstance(app.screen, ExportReport)
+            await pilot.press("escape")
+
+            await pilot.press("ctrl+q")
+            await pilot.pause()
+        return app, second
+
+    app, second = drive(scenario())
+    assert app.return_code in (0, None)
+    from pypdf import PdfReader  # reference reader, not ours
+
+    pdf_text = "\n".join(page.extract_text() for page in PdfReader(report).pages)
+    assert "Alder Brook farmhouse" in pdf_text
+    assert f"VERDICT: {second.assessment.verdict.upper()}" in pdf_text
+    saved = load_site(site_file)
+    assert saved.horizon.points[-1].label == "leaning spruce"
+    assert saved.plan is not None  # the plan file reference survived the save
+
+
+def test_invalid_latitude_is_flagged_and_never_reaches_the_engine(tmp_path):
+    site_file = demo_copy(tmp_path)
+    before = site_file.read_bytes()
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(100, 30)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            runs = app.latest
+            await pilot.press("f2")
+            lat = app.workspace.query_one("#f-site-latitude")
+            lat.focus()
+            lat.value = ""
+            await type_text(pilot, "95.5")
+            await pilot.pause(0.3)
+            msg = str(app.workspace.query_one("#f-site-latitude-msg").render())
+            assert lat.has_class("-invalid") and "90" in msg
+            assert "stale" in status_text(app) and "Latitude" in status_text(app)
+            await pilot.pause(2.0)  # past the autosave delay
+            assert app.latest is runs  # not assessed
+            assert app.session.site.latitude_deg == pytest.approx(45.3182)
+
+            # degrees, minutes and seconds as read off a GPS are accepted
+            lat.value = "45°19'05.5\"N"
+            await pilot.pause(0.3)
+            assert not lat.has_class("-invalid")
+            assert "45.318194" in str(app.workspace.query_one("#f-site-latitude-msg").render())
+
+            lat.value = "north"
+            await pilot.pause(0.2)
+            await pilot.press("ctrl+q")  # unsaved: asks first
+            await pilot.pause()
+            assert isinstance(app.screen, AskChoice)
+            await pilot.press("enter")  # the default answer is to stay
+            assert isinstance(app.screen, Workspace)
+            await pilot.press("ctrl+q")
+            await pilot.pause()
+            app.screen.query_one("#answer-quit").press()
+            await pilot.pause()
+
+    drive(scenario())
+    assert site_file.read_bytes() == before  # nothing invalid was saved, and quitting did not save
+
+
+def test_bad_csv_import_is_a_message_and_leaves_the_site(tmp_path):
+    site_file = demo_copy(tmp_path)
+    bad = tmp_path / "bad.csv"
+    bad.write_text("azimuth_deg,elevation_deg\n120,30\n130,ninety\n", encoding="utf-8")
+    good = tmp_path / "good.csv"
+    good.write_text("azimuth_deg,elevation_deg,label\n10,5,fence\n90,12,shed\n", encoding="utf-8")
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(100, 30)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            points = app.session.site.horizon.points
+            await pilot.press("f3")
+            await pilot.press("i")
+            assert isinstance(app.screen, AskText)
+            app.screen.query_one("#answer").value = str(bad)
+            await pilot.press("enter")
+            await pilot.pause()
+            notes = [n.message for n in app._notifications]
+            assert any("bad.csv: line 3: elevation must be a number" in m for m in notes), notes
+            assert app.session.site.horizon.points == points
+
+            await pilot.press("i")
+            app.screen.query_one("#answer").value = str(good)
+            await pilot.press("enter")
+            await pilot.pause()
+            assert isinstance(app.screen, AskChoice)  # replace or append?
+            app.screen.query_one("#answer-append").press()
+            await pilot.pause()
+            assert app.session.site.horizon.points[-2:][1].label == "shed"
+            assert len(app.session.site.horizon.points) == len(points) + 2
+            await pilot.press("ctrl+z")
+            await pilot.pause()
+            assert app.session.site.horizon.points == points
+
+            await pilot.press("f1")  # the safety note is one key away
+            assert isinstance(app.screen, SafetyNote)
+            await pilot.press("escape")
+            await pilot.press("ctrl+q")
+
+    drive(scenario())
+
+
+def test_new_site_from_scratch(tmp_path):
+    site_file = tmp_path / "sites" / "hillside" / "site.toml"
+
+    async def scenario():
+        app = app_for(None, tmp_path)
+        async with app.run_test(size=(80, 24)) as pilot:
+            assert isinstance(app.screen, StartScreen)
+            await pilot.press("n")
+            assert isinstance(app.screen, AskText)
+            app.screen.query_one("#answer").value = str(site_file)
+            await pilot.press("enter")
+            await until(pilot, lambda: isinstance(app.screen, Workspace))
+            await pilot.pause()
+            assert "stale" in status_text(app)
+            ws = app.workspace
+            for key, value in (("site-name", "Hillside test plot"), ("site-latitude", "52 12.5 N"),
+                               ("site-longitude", "0 7 W"), ("mount-height_m", "4")):
+                ws.query_one(f"#f-{key}").value = value
+                await pilot.pause(0.05)
+            assert ws.query_one(SiteForm).problems == {}
+            await until(pilot, lambda: app.latest is not None, what="assessment of the new site")
+            assert app.latest.site.latitude_deg == pytest.approx(52 + 12.5 / 60)
+            assert app.latest.site.longitude_deg == pytest.approx(-7 / 60)
+            await pilot.press("f3")
+            await pilot.press("a")
+            await type_text(pilot, "180 30")
+            await pilot.press("enter")
+            await until(pilot, lambda: site_file.exists() and not app.session.dirty, what="autosave")
+            await pilot.press("ctrl+q")
+
+    drive(scenario())
+    site = load_site(site_file)
+    assert site.name == "Hillside test plot" and site.mount.height_m == 4
+    assert [(p.azimuth_deg, p.elevation_deg) for p in site.horizon.points] == [(180, 30)]
+
+
+def test_assessor_caches_tracks_and_can_be_cancelled(tmp_path):
+    site = load_site(demo_copy(tmp_path))
+    assessor = Assessor(hours=1)
+    first = assessor.run(site)
+    from dataclasses import replace
+
+    from survey.horizon import HorizonProfile
+
+    again = assessor.run(replace(site, horizon=HorizonProfile((), "true")))
+    assert again.tracks is first.tracks and again.assessment.blocked_samples == 0
+    moved = replace(site, latitude_deg=site.latitude_deg + 0.5)
+    with pytest.raises(Cancelled):
+        assessor.run(moved, cancelled=lambda: True)
+    assert assessor.run(moved).tracks is not first.tracks
+
+
+def test_spot_made_the_mount(tmp_path):
+    site_file = demo_copy(tmp_path)
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(140, 45)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            await pilot.press("f6")
+            view = app.workspace.query_one("#spots-pane")
+            await until(pilot, lambda: view.ranking is not None, what="spot ranking")
+            best = view.rows[0]
+            await pilot.press("u")
+            assert isinstance(app.screen, AskChoice)
+            await pilot.press("enter")
+            await until(pilot, lambda: app.latest is not None and app.latest.site.mount.at is not None,
+                        what="re-assessment at the spot")
+            assert app.latest.assessment.blocked_fraction == best.blocked_fraction  # the ranking's own figure
+            await until(pilot, lambda: not app.session.dirty)
+            await pilot.press("ctrl+q")
+        return best
+
+    best = drive(scenario())
+    saved = load_site(site_file)
+    assert saved.mount.at == pytest.approx((best.candidate.east_m, best.candidate.north_m), abs=1e-3)
+    assert saved.mount.height_m == pytest.approx(best.candidate.height_m)

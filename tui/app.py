@@ -1,0 +1,574 @@
+"""The leosite text UI: the app, its keys and commands, and the wiring between
+the tabs and the engine.
+
+Flow: a tab reports an edit -> the app builds the new site (only from valid
+values) -> it is saved a moment later (atomically) and assessed in a worker
+thread, reusing the cached sky tracks -> every tab and the status line show the
+new findings.  Errors become messages in the app, never tracebacks, and leave
+the open site as it was."""
+
+from __future__ import annotations
+
+import time
+from dataclasses import replace
+from datetime import datetime, timezone
+from pathlib import Path
+
+from textual import work
+from textual.app import App, SystemCommand
+from textual.binding import Binding
+from textual.widgets import ProgressBar
+from textual.worker import get_current_worker
+
+from survey.errors import InputError
+from survey.horizon import read_horizon_csv
+from survey.magnetic import declination
+from survey.report import recommendations, write_report
+
+from .fields import apply_fields
+from .panes.findings import FindingsPane
+from .panes.horizon_editor import HorizonEditor
+from .panes.site_form import SiteForm
+from .panes.sky_view import SkyView
+from .panes.spots_view import SpotsView
+from .screens.dialogs import AskChoice, AskText, ExportReport, SafetyNote
+from .screens.start import StartScreen
+from .screens.workspace import Workspace
+from .session import Assessor, Cancelled, Session, copy_demo, fleet_choice_for, slug
+from .widgets.status import StatusLine
+
+AUTOSAVE_S = 1.5  # a killed terminal loses at most this much typing
+FORM_SETTLE_S = 0.5  # a form edit is taken once typing pauses this long
+
+
+class LeositeApp(App):
+    CSS_PATH = "leosite.tcss"
+    TITLE = "leosite"
+    ENABLE_COMMAND_PALETTE = True
+    BINDINGS = [
+        Binding("ctrl+q", "quit", "Quit", priority=True),
+        Binding("f1", "safety", "Safety"),
+        Binding("ctrl+t", "toggle_daylight", "Day/night", show=False),
+    ]
+
+    def __init__(self, site_path: str | Path | None = None, assessor: Assessor | None = None,
+                 work_root: str | Path | None = None):
+        super().__init__()
+        self.site_path = Path(site_path) if site_path is not None else None
+        self.assessor = assessor or Assessor()
+        self.work_root = Path(work_root) if work_root is not None else Path.cwd() / "leosite-sites"
+        self.session: Session | None = None
+        self.latest = None  # the last SiteRun shown
+        self.advice: list[dict] = []
+        self._save_timer = None
+        self._form_timer = None
+        self._generation = 0
+        self._form_values: dict | None = None
+        self._form_problem: str | None = None
+
+    def notify(self, message: str, *, markup: bool = False, **kw) -> None:
+        """Messages carry file names and typed labels: never read them as markup."""
+        super().notify(message, markup=markup, **kw)
+
+    # ---------------------------------------------------------------- start
+    def on_mount(self) -> None:
+        self.push_screen(StartScreen())
+        if self.site_path is not None:
+            self.open_site(self.site_path)
+
+    @property
+    def workspace(self) -> Workspace | None:
+        return self.screen if isinstance(self.screen, Workspace) else next(
+            (s for s in self.screen_stack if isinstance(s, Workspace)), None)
+
+    def open_site(self, path: Path) -> bool:
+        try:
+            session = Session.open(path)
+        except InputError as exc:
+            self.notify("\n".join(exc.problems[:4]), title="Cannot open the site", severity="error", timeout=10)
+            return False
+        self._enter(session)
+        return True
+
+    def open_demo(self, demo) -> None:
+        try:
+            path = copy_demo(demo, self.work_root)
+        except OSError as exc:
+            self.notify(f"{self.work_root}: cannot copy the demo site: {exc.strerror}", severity="error")
+            return
+        if self.open_site(path):
+            self.notify(f"Working on a copy: {path}", timeout=6)
+
+    def _enter(self, session: Session) -> None:
+        self.session = session
+        self.latest = None  # the last SiteRun shown
+        self.advice = []
+        self._form_values, self._form_problem = None, None
+        ws = Workspace()
+        if self.workspace is not None:
+            self.switch_screen(ws)
+        else:
+            self.push_screen(ws)
+        self.call_after_refresh(self._load_workspace)
+
+    def _load_workspace(self) -> None:
+        ws, site = self.workspace, self.session.site
+        ws.query_one(SiteForm).load(site)
+        editor = ws.query_one(HorizonEditor)
+        if site is not None:
+            dec, note = self._declination(site)
+            editor.load(site.horizon, dec, note)
+            editor.set_min_elevation(site.terminal.min_elevation_deg)
+        else:
+            editor.load(editor.profile, None)
+        self._status(site_name=site.name if site else "", saved="" if site is None else "saved")
+        if site is None:
+            ws.action_show_tab("site")
+            self._status(state="stale: enter the site's name and coordinates")
+        else:
+            ws.action_show_tab("findings")
+            self.request_assessment()
+
+    def _declination(self, site) -> tuple[float | None, str]:
+        when = site.window.get("start") or self.assessor.start or datetime.now(timezone.utc)
+        try:
+            d = declination(site.latitude_deg, site.longitude_deg, site.elevation_m, when)
+        except Exception as exc:  # a model failure must not take the editor down
+            return None, f"declination unavailable: {exc}"
+        return d.declination_deg, "; ".join(d.warnings)
+
+    # ---------------------------------------------------------------- edits
+    def on_site_form_changed(self, event: SiteForm.Changed) -> None:
+        """Typing in a field: the field is checked at once (by the form); the site
+        follows once typing pauses, so half-typed numbers ("9" on the way to
+        "95.5") are never assessed or saved."""
+        self._form_values = event.values
+        self._form_problem = None if event.values is not None else self.workspace.query_one(SiteForm).first_problem()
+        if self._form_problem:
+            self._status(state=f"stale: {self._form_problem}", saved="unsaved")
+        if self._form_timer is not None:
+            self._form_timer.stop()
+        self._form_timer = self.set_timer(FORM_SETTLE_S, self._form_settled)
+
+    def _form_settled(self) -> None:
+        self._form_timer = None
+        self._site_edited()
+
+    def on_horizon_editor_changed(self, event: HorizonEditor.Changed) -> None:
+        self._site_edited()
+
+    def _site_edited(self) -> None:
+        """Build the site from the form and the horizon table; only a valid one
+        goes on to be saved and assessed."""
+        ws = self.workspace
+        if self._form_problem:
+            self._status(state=f"stale: {self._form_problem}", saved="unsaved")
+            return
+        values = self._form_values
+        if values is None:
+            form = ws.query_one(SiteForm)
+            if form.problems:
+                self._status(state=f"stale: {form.first_problem()}", saved="unsaved")
+                return
+            values = form.values
+        editor = ws.query_one(HorizonEditor)
+        base = self.session.site
+        try:
+            site = apply_fields(values, base, self.session.path)
+        except (TypeError, ValueError, KeyError) as exc:
+            self._status(state=f"stale: {exc}")
+            return
+        site = replace(site, horizon=editor.profile)
+        if site == self.session.site:
+            return
+        moved = base is None or (site.latitude_deg, site.longitude_deg, site.elevation_m) != (
+            base.latitude_deg, base.longitude_deg, base.elevation_m)
+        self.session.update(site)
+        if moved:
+            dec, note = self._declination(site)
+            editor.set_declination(dec, note)
+        editor.set_min_elevation(site.terminal.min_elevation_deg)
+        self._status(site_name=site.name, saved="unsaved")
+        self._schedule_autosave()
+        self.request_assessment()
+
+    def _schedule_autosave(self) -> None:
+        if self._save_timer is not None:
+            self._save_timer.stop()
+        self._save_timer = self.set_timer(AUTOSAVE_S, self._autosave)
+
+    def _autosave(self) -> None:
+        self._save_timer = None
+        self.save_now(quiet=True)
+
+    def save_now(self, quiet: bool = False) -> bool:
+        if self.session is None or self.session.site is None:
+            return False
+        if not self.session.dirty:
+            return True
+        try:
+            written = self.session.save()
+        except InputError as exc:
+            self._status(saved="not saved: see message")
+            self.notify(exc.problems[0], title="Could not save", severity="error", timeout=10)
+            return False
+        self._status(saved=f"saved {time.strftime('%H:%M:%S')}")
+        if not quiet:
+            self.notify("Saved " + ", ".join(str(p) for p in written), timeout=4)
+        return True
+
+    def action_save(self) -> None:
+        if self._form_problem:
+            self.notify(f"Not saved: {self._form_problem}", severity="warning")
+            return
+        if self.session is not None and not self.session.dirty:
+            self.notify(f"Already saved: {self.session.path}", timeout=3)
+            return
+        self.save_now()
+
+    # ---------------------------------------------------------------- assessment
+    def request_assessment(self) -> None:
+        if self.session is None or self.session.site is None:
+            return
+        self._generation += 1
+        self._assess(self.session.site, self._generation)
+
+    @work(thread=True, exclusive=True, group="assess", exit_on_error=False)
+    def _assess(self, site, generation: int) -> None:
+        worker = get_current_worker()
+        started = time.monotonic()
+
+        def progress(fraction: float) -> None:
+            if time.monotonic() - started > 0.15:  # a cached re-assessment never shows the bar
+                self.call_from_thread(self._progress, generation, fraction)
+
+        try:
+            run = self.assessor.run(site, progress, cancelled=lambda: worker.is_cancelled)
+            advice = recommendations(run)
+        except Cancelled:
+            return
+        except InputError as exc:
+            self.call_from_thread(self._assess_failed, generation, exc.problems)
+            return
+        except Exception as exc:  # shown, not raised: the open site must survive
+            self.call_from_thread(self._assess_failed, generation, [f"unexpected error: {exc!r}"])
+            return
+        if not worker.is_cancelled:
+            self.call_from_thread(self._assess_done, generation, run, advice)
+
+    def _progress(self, generation: int, fraction: float) -> None:
+        if generation != self._generation or self.workspace is None:
+            return
+        bar = self.workspace.query_one("#progress", ProgressBar)
+        bar.display = True
+        bar.update(progress=100 * fraction)
+        self._status(state=f"computing sky tracks {100 * fraction:.0f} % (Esc cancels)")
+
+    def _hide_progress(self) -> None:
+        if self.workspace is not None:
+            self.workspace.query_one("#progress", ProgressBar).display = False
+
+    def _assess_failed(self, generation: int, problems: list[str]) -> None:
+        if generation != self._generation:
+            return
+        self._hide_progress()
+        self._status(state="error: findings not updated")
+        self.notify("\n".join(problems[:4]), title="Assessment failed", severity="error", timeout=10)
+
+    def _assess_done(self, generation: int, run, advice) -> None:
+        if generation != self._generation or self.workspace is None:
+            return
+        self.latest, self.advice = run, advice
+        self._hide_progress()
+        a = run.assessment
+        self._status(verdict=a.verdict, blocked=a.blocked_fraction, interruption=a.interruption,
+                     availability=a.availability, state="")
+        ws = self.workspace
+        ws.query_one(FindingsPane).show_run(run, advice)
+        ws.query_one(SkyView).show_run(run)
+        ws.query_one(SpotsView).show_run(run)
+        editor = ws.query_one(HorizonEditor)
+        if run.site.horizon.reference == "magnetic":
+            editor.set_declination(run.declination.declination_deg, "; ".join(run.declination.warnings))
+
+    def action_cancel_assessment(self) -> None:
+        running = [w for w in self.workers if w.group == "assess" and w.is_running]
+        if not running:
+            return
+        self.workers.cancel_group(self, "assess")
+        self._generation += 1
+        self._hide_progress()
+        self._status(state="stale: assessment cancelled (ctrl+g to run it)")
+
+    def action_reassess(self) -> None:
+        self.request_assessment()
+
+    def _status(self, **values) -> None:
+        ws = self.workspace
+        if ws is None:
+            return
+        status = ws.query_one(StatusLine)
+        for k, v in values.items():
+            setattr(status, k, v)
+
+    # ---------------------------------------------------------------- spots
+    def spots_tab_opened(self) -> None:
+        view = self.workspace.query_one(SpotsView)
+        if view.ranking is None and self.latest is not None and self.latest.site.plan is not None:
+            self.rank_spots(view.years)
+
+    def on_spots_view_rank_requested(self, event: SpotsView.RankRequested) -> None:
+        self.rank_spots(event.years)
+
+    def rank_spots(self, years: float) -> None:
+        if self.latest is None:
+            self.notify("wait for the assessment to finish", timeout=3)
+            return
+        plan = self.latest.site.plan
+        if plan is None or not plan.has_candidates:
+            self.notify("this site has no plan with candidate spots", severity="warning")
+            return
+        self._rank(self.latest, years)
+
+    @work(thread=True, exclusive=True, group="spots", exit_on_error=False)
+    def _rank(self, run, years: float) -> None:
+        from survey.spots import rank_spots
+
+        self.call_from_thread(self._status, state="ranking spots…")
+        try:
+            ranking = rank_spots(run, years=years)
+        except InputError as exc:
+            self.call_from_thread(self.notify, exc.problems[0], severity="error")
+            self.call_from_thread(self._status, state="")
+            return
+        self.call_from_thread(self._ranked, run, ranking)
+
+    def _ranked(self, run, ranking) -> None:
+        self._status(state="")
+        if self.workspace is not None:
+            self.workspace.query_one(SpotsView).show_ranking(run, ranking)
+
+    def on_spots_view_use_spot(self, event: SpotsView.UseSpot) -> None:
+        c = event.result.candidate
+
+        def answered(answer) -> None:
+            if answer != "use":
+                return
+            site = self.session.site
+            mount = replace(site.mount, height_m=round(c.height_m, 3), at=(round(c.east_m, 3), round(c.north_m, 3)))
+            self.session.update(replace(site, mount=mount))
+            self.workspace.query_one(SiteForm).load(self.session.site)
+            self._status(saved="unsaved")
+            self._schedule_autosave()
+            self.request_assessment()
+            self.notify(f"Mount set to {c.name} ({c.east_m:.1f} m E, {c.north_m:.1f} m N, {c.height_m:g} m up); "
+                        "findings now use the horizon derived there", timeout=6)
+
+        self.push_screen(AskChoice(
+            f"Mount the terminal at {c.name}?",
+            [("use", "Use this spot"), ("cancel", "Cancel")],
+            f"{c.kind} at {c.east_m:.1f} m east, {c.north_m:.1f} m north, antenna {c.height_m:g} m up.  "
+            "The findings will use the horizon the plan gives there; the measured points stay as the "
+            "survey-point record."), answered)
+
+    # ---------------------------------------------------------------- files
+    def action_new_site(self) -> None:
+        suggested = self.work_root / "new-site" / "site.toml"
+
+        def check(text: str) -> str | None:
+            if not text:
+                return "type a file name for the site, ending in .toml"
+            p = Path(text).expanduser()
+            if p.suffix.lower() != ".toml":
+                return "a site file name ends in .toml"
+            if p.exists():
+                return f"{p} already exists: open it instead"
+            return None
+
+        def answered(text) -> None:
+            if text:
+                try:
+                    self._enter(Session.new(Path(text).expanduser()))
+                except InputError as exc:
+                    self.notify(exc.problems[0], severity="error")
+
+        self.push_screen(AskText("New site: where to keep its file", str(suggested),
+                                 "The folder is made if needed; the file is written once the site has a name "
+                                 "and valid coordinates.", check), answered)
+
+    def action_open_site(self) -> None:
+        def answered(text) -> None:
+            if text:
+                self.open_site(Path(text).expanduser())
+
+        self.push_screen(AskText("Open a site file", str(Path.cwd()) + "/", "A site.toml file."), answered)
+
+    def action_import_horizon(self) -> None:
+        if self.session is None:
+            return
+        folder = self.session.path.parent
+
+        def answered(text) -> None:
+            if not text:
+                return
+            path = Path(text).expanduser()
+            if not path.is_absolute():
+                path = folder / path
+            try:
+                points = read_horizon_csv(path)
+            except InputError as exc:
+                self.notify("\n".join(exc.problems[:4]), title="Horizon CSV not imported", severity="error",
+                            timeout=10)
+                return
+            editor = self.workspace.query_one(HorizonEditor)
+            if not editor.profile.points:
+                editor.replace_points(points, append=False)
+                self.notify(f"Imported {len(points)} points from {path}")
+                return
+
+            def how(answer) -> None:
+                if answer in ("replace", "append"):
+                    editor.replace_points(points, append=answer == "append")
+                    self.notify(f"Imported {len(points)} points from {path} ({answer}d)")
+
+            self.push_screen(AskChoice(f"{len(points)} points read from {path.name}",
+                                       [("replace", "Replace the table"), ("append", "Add to the end"),
+                                        ("cancel", "Cancel")],
+                                       f"The table holds {len(editor.profile.points)} points.  Bearings are taken "
+                                       f"as {editor.profile.reference} like the table's."), how)
+
+        self.push_screen(AskText("Import horizon points from a CSV file", "",
+                                 "Columns azimuth_deg,elevation_deg[,distance_m][,label]; relative names are "
+                                 f"taken from {folder}", placeholder="horizon.csv"), answered)
+
+    def action_load_satellites(self) -> None:
+        def answered(text) -> None:
+            if not text:
+                return
+            try:
+                choice = fleet_choice_for(Path(text).expanduser())
+                fleet = choice.load(datetime.now(timezone.utc))
+            except InputError as exc:
+                self.notify("\n".join(exc.problems[:4]), title="Satellites not loaded", severity="error",
+                            timeout=10)
+                return
+            if len(fleet) == 0:
+                self.notify(f"{text}: no satellites in the file", severity="error")
+                return
+            self.assessor = self.assessor.with_fleet(choice)
+            self.notify(f"Using {len(fleet):,} satellites from {text}")
+            self.request_assessment()
+
+        self.push_screen(AskText("Load satellites: element sets (TLE, OMM) or a shell file (.toml)", "",
+                                 "The current satellites stay in use if the file cannot be read."), answered)
+
+    # ---------------------------------------------------------------- report
+    def action_safety(self) -> None:
+        kind = self.session.site.mount.kind if self.session and self.session.site else "fixed"
+        self.push_screen(SafetyNote(kind))
+
+    def action_export(self) -> None:
+        if self.session is None or self.session.site is None:
+            self.notify("open or start a site first", severity="warning")
+            return
+        if self._form_problem:
+            self.notify(f"Fix the site first: {self._form_problem}", severity="warning")
+            return
+        if self.latest is None or self.latest.site != self.session.site:
+            self.notify("the findings are not up to date yet: wait for the assessment", severity="warning")
+            return
+        if not self.session.safety_seen:
+            def seen(_) -> None:
+                self.session.safety_seen = True
+                self._ask_report_path()
+
+            self.push_screen(SafetyNote(self.session.site.mount.kind, before_export=True), seen)
+            return
+        self._ask_report_path()
+
+    def _ask_report_path(self) -> None:
+        last = self.session.reports[-1] if self.session.reports else None
+        suggested = last or self.session.path.parent / f"{slug(self.session.site.name)}-report.pdf"
+
+        def answered(answer) -> None:
+            if answer is not None:
+                path, paper = answer
+                self._write_report(self.latest, path, paper)
+
+        self.push_screen(ExportReport(suggested), answered)
+
+    @work(thread=True, exclusive=True, group="report", exit_on_error=False)
+    def _write_report(self, run, path: Path, paper: str) -> None:
+        self.call_from_thread(self._status, state="writing the report…")
+        try:
+            out = write_report(run, path, paper=paper, fleet_choice=self.assessor.fleet_choice)
+        except InputError as exc:
+            self.call_from_thread(self.notify, exc.problems[0], title="Report not written", severity="error",
+                                  timeout=10)
+            self.call_from_thread(self._status, state="")
+            return
+        self.call_from_thread(self._report_written, out.resolve())
+
+    def _report_written(self, path: Path) -> None:
+        self._status(state="")
+        if self.session is not None:
+            self.session.reports.append(path)
+        self.notify(f"Report written to {path}", title="Report", timeout=10)
+
+    # ---------------------------------------------------------------- quit
+    def _unsaved_reason(self) -> str | None:
+        if self.session is None:
+            return None
+        if self._form_problem:
+            return f"a field is not valid ({self._form_problem}), so the last change cannot be saved"
+        if self.session.site is None:
+            return "the new site has no valid name and coordinates yet, so nothing is saved"
+        return None
+
+    async def action_quit(self) -> None:
+        if self._form_timer is not None:  # a form edit still settling is taken now
+            self._form_timer.stop()
+            self._form_settled()
+        reason = self._unsaved_reason()
+        if reason is None:
+            if self.session is not None and self.session.dirty and not self.save_now(quiet=True):
+                reason = "saving failed"
+            else:
+                self.exit()
+                return
+
+        def answered(answer) -> None:
+            if answer == "quit":
+                self.exit()
+
+        self.push_screen(AskChoice("Quit with unsaved changes?", [("stay", "Stay"), ("quit", "Quit without saving")],
+                                   reason.capitalize() + "."), answered)
+
+    def action_toggle_daylight(self) -> None:
+        """A light, high-contrast theme reads better in sunlight."""
+        self.theme = "textual-light" if self.theme != "textual-light" else "textual-dark"
+
+    # ---------------------------------------------------------------- palette
+    def get_system_commands(self, screen):
+        yield from super().get_system_commands(screen)
+        yield SystemCommand("Safety note", "Cautions for roof, ladder and mast work (F1)", self.action_safety)
+        yield SystemCommand("New site", "Start a survey from scratch", self.action_new_site)
+        yield SystemCommand("Open site", "Open a site.toml file", self.action_open_site)
+        if isinstance(screen, Workspace):
+            yield SystemCommand("Write report", "PDF, HTML or JSON site report (ctrl+r)", self.action_export)
+            yield SystemCommand("Save site", "Write the site file now (ctrl+s)", self.action_save)
+            yield SystemCommand("Re-assess", "Run the assessment again (ctrl+g)", self.action_reassess)
+            yield SystemCommand("Import horizon CSV", "Read measured points from a CSV file",
+                                self.action_import_horizon)
+            yield SystemCommand("Load satellites", "Use element sets (TLE/OMM) or a shell file",
+                                self.action_load_satellites)
+            yield SystemCommand("Rank mounting spots", "Rank the plan's candidate spots",
+                                lambda: self.rank_spots(0.0))
+        yield SystemCommand("Day/night colours", "Light theme for sunlight, dark for indoors (ctrl+t)",
+                            self.action_toggle_daylight)
+
+
+def run_ui(site_path=None, assessor: Assessor | None = None) -> int:
+    LeositeApp(site_path, assessor).run()
+    return 0
+

@@ -1,0 +1,152 @@
+"""The site form's fields, each checked by the engine's own site reader.
+
+A typed value is parsed (numbers; latitude and longitude also in degrees,
+minutes and seconds) and then put through ``survey.site.site_from_dict`` in a
+one-field document, so the form can never accept what a site file would reject,
+and the reason shown at the field is the engine's own wording.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+from survey.angles import format_dms, parse_angle
+from survey.errors import InputError
+from survey.site import MOUNT_KINDS, Mount, Site, Terminal, site_from_dict
+
+
+@dataclass(frozen=True)
+class FieldSpec:
+    key: str  # "table.key", as in site.toml
+    label: str
+    kind: str  # text | number | optional | latitude | longitude | choice | time
+    placeholder: str = ""
+    required: bool = False
+
+
+FIELDS = (
+    FieldSpec("site.name", "Site name", "text", "e.g. Hillside farm, north barn", True),
+    FieldSpec("site.latitude", "Latitude", "latitude", "45.3182  or  45°19'05.5\"N", True),
+    FieldSpec("site.longitude", "Longitude", "longitude", "-72.6415  or  72 38 29.4 W", True),
+    FieldSpec("site.elevation_m", "Ground elevation, m", "number", "above sea level, e.g. 212"),
+    FieldSpec("mount.kind", "Mount kind", "choice"),
+    FieldSpec("mount.height_m", "Antenna height, m", "number", "above the ground (or deck)"),
+    FieldSpec("terminal.min_elevation_deg", "Minimum elevation, °", "number", "terminal's lowest usable, e.g. 25"),
+    FieldSpec("terminal.scan_half_angle_deg", "Field-of-view half-angle, °", "optional", "blank: no cone"),
+    FieldSpec("terminal.tilt_deg", "Boresight tilt, °", "number", "0 = pointing at the zenith"),
+    FieldSpec("terminal.tilt_azimuth_deg", "Tilted toward, ° true", "number", "azimuth of the tilt"),
+    FieldSpec("survey.surveyor", "Surveyor", "text"),
+    FieldSpec("survey.organisation", "Organisation", "text"),
+    FieldSpec("survey.customer", "Customer", "text"),
+    FieldSpec("survey.date", "Survey date (UTC)", "time", "2026-05-28 or 2026-05-28T14:20:00Z"),
+    FieldSpec("survey.notes", "Notes", "text"),
+)
+BY_KEY = {f.key: f for f in FIELDS}
+CHOICES = {"mount.kind": MOUNT_KINDS}
+
+_PROBE_PATH = Path("site.toml")
+
+
+def engine_problem(key: str, value) -> str | None:
+    """The site reader's complaint about ``value`` at ``key``, or None."""
+    table, name = key.split(".", 1)
+    doc = {"site": {"name": "probe", "latitude": 0.0, "longitude": 0.0}}
+    doc.setdefault(table, {})[name] = value
+    try:
+        site_from_dict(doc, _PROBE_PATH)
+    except InputError as exc:
+        for line in exc.problems:
+            marker = f": {key}: "
+            if marker in line:
+                return line.split(marker, 1)[1]
+        return exc.problems[0].split(": ", 2)[-1]
+    return None
+
+
+def parse_field(key: str, text: str):
+    """(value, problem, note) for ``text`` typed at ``key``.  ``value`` is what
+    goes into the site (None for blank optional fields), ``problem`` the reason it
+    is refused, ``note`` a confirmation worth showing (e.g. the DMS reading)."""
+    spec = BY_KEY[key]
+    text = text.strip()
+    if not text:
+        if spec.required:
+            return None, "required", ""
+        return None, None, ""
+    note = ""
+    if spec.kind in ("latitude", "longitude"):
+        try:
+            value = parse_angle(text, spec.kind)
+        except ValueError as exc:
+            return None, str(exc), ""
+        note = f"= {value:.6f}°  ({format_dms(value, spec.kind)})"
+    elif spec.kind in ("number", "optional"):
+        try:
+            value = float(text.replace(",", ".")) if text.count(",") == 1 and "." not in text else float(text)
+        except ValueError:
+            return None, f"expected a number, got {text!r}", ""
+    elif spec.kind == "choice":
+        value = text
+    else:
+        value = text
+    problem = engine_problem(key, value)
+    return (None if problem else value), problem, ("" if problem else note)
+
+
+def field_values(site: Site) -> dict[str, str]:
+    """The form's text for each field of ``site``."""
+    t = site.terminal
+
+    def num(x) -> str:
+        return "" if x is None else f"{x:g}" if abs(x) >= 1e-4 or x == 0 else repr(x)
+
+    return {
+        "site.name": site.name,
+        "site.latitude": f"{site.latitude_deg:.6f}".rstrip("0").rstrip("."),
+        "site.longitude": f"{site.longitude_deg:.6f}".rstrip("0").rstrip("."),
+        "site.elevation_m": num(site.elevation_m),
+        "mount.kind": site.mount.kind,
+        "mount.height_m": num(site.mount.height_m),
+        "terminal.min_elevation_deg": num(t.min_elevation_deg),
+        "terminal.scan_half_angle_deg": num(t.scan_half_angle_deg),
+        "terminal.tilt_deg": num(t.tilt_deg),
+        "terminal.tilt_azimuth_deg": num(t.tilt_azimuth_deg),
+        **{f"survey.{k}": site.survey.get(k, "") for k in ("surveyor", "organisation", "customer", "date", "notes")},
+    }
+
+
+def apply_fields(values: dict, base: Site | None, path: Path) -> Site:
+    """A Site from parsed field values over ``base`` (its horizon, plan, window,
+    criteria and schedule are kept); ``base`` None starts from the defaults."""
+    if base is None:
+        base = Site(values.get("site.name") or path.parent.name, 0.0, 0.0, path=path)
+
+    def get(key, default):
+        v = values.get(key)
+        return default if v is None else v
+
+    mount = replace(base.mount, kind=get("mount.kind", base.mount.kind),
+                    height_m=float(get("mount.height_m", Mount().height_m)))
+    terminal = Terminal(
+        float(get("terminal.min_elevation_deg", Terminal().min_elevation_deg)),
+        float(get("terminal.tilt_deg", 0.0)),
+        float(get("terminal.tilt_azimuth_deg", 0.0)),
+        values.get("terminal.scan_half_angle_deg"),
+    )
+    survey = {}
+    for k in ("surveyor", "organisation", "customer", "notes", "date"):
+        v = values.get(f"survey.{k}")
+        if v:
+            survey[k] = v
+    if "date" in survey:  # stored as the site reader normalises it
+        from survey.errors import Problems
+        from survey.site import parse_time
+
+        when = parse_time(survey["date"], "survey.date", Problems(str(path)))
+        if when is not None:
+            survey["date"] = when.strftime("%Y-%m-%dT%H:%M:%SZ")
+    return replace(base, name=values["site.name"], latitude_deg=float(values["site.latitude"]),
+                   longitude_deg=float(values["site.longitude"]),
+                   elevation_m=float(get("site.elevation_m", 0.0)), mount=mount, terminal=terminal,
+                   survey=survey, path=path)

@@ -1,0 +1,110 @@
+"""Findings tab: the verdict and why, the figures, drop-outs with a small
+timeline, the costliest obstructions with computed advice, what was assessed,
+and the warnings."""
+
+from __future__ import annotations
+
+from rich.table import Table
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.containers import VerticalScroll
+from textual.widgets import Static
+
+from survey.pipeline import SiteRun
+from survey.render import fmt_duration
+
+from ..verdicts import verdict_text
+from ..widgets.timeline import OutageStrip
+
+
+def _pct(x, digits: int = 1) -> str:
+    return "n/a" if x is None else f"{100 * x:.{digits}f} %"
+
+
+class FindingsPane(VerticalScroll):
+    def compose(self) -> ComposeResult:
+        yield Static("Assessing…", markup=False, id="verdict-box")
+        yield Static("", markup=False, id="figures")
+        yield Static("Drop-outs under the scheduling model (UTC)", classes="section")
+        yield OutageStrip(id="outages")
+        yield Static("", markup=False, id="outage-list")
+        yield Static("Costliest obstructions", classes="section")
+        yield Static("", markup=False, id="sectors")
+        yield Static("", markup=False, id="advice")
+        yield Static("What was assessed", classes="section")
+        yield Static("", markup=False, id="assessed")
+        yield Static("", markup=False, id="warnings")
+
+    def show_run(self, run: SiteRun, advice: list[dict]) -> None:
+        s, a, w = run.site, run.assessment, run.window
+        box = Text()
+        box.append_text(verdict_text(a.verdict, big=True))
+        box.append("\n" + a.verdict_reason)
+        verdict = self.query_one("#verdict-box", Static)
+        verdict.update(box)
+        for v in ("qualified", "marginal", "not-qualified"):
+            verdict.set_class(a.verdict == v, f"verdict-{v}")
+
+        o = a.outage_summary(run.tracks)
+        fig = Table.grid(padding=(0, 2))
+        fig.add_column(justify="left", style="bold")
+        fig.add_column(justify="right")
+        fig.add_column(justify="left")
+        fig.add_row("Blocked", _pct(a.blocked_fraction, 2), "of the usable sky samples")
+        fig.add_row("Availability", _pct(a.availability, 2), "of the time an unblocked satellite is in view")
+        fig.add_row("Interruption", _pct(a.interruption, 2),
+                    f"of the time down (reassigned every {s.schedule.reassign_s:g} s)")
+        fig.add_row("Drop-outs", f"{o['count_per_day']:.1f}/day",
+                    f"{o['minutes_per_day']:.1f} min a day, longest {fmt_duration(o['longest_s'])}")
+        self.query_one("#figures", Static).update(fig)
+
+        self.query_one("#outages", OutageStrip).show(w.start, w.hours, w.step_s, a.down)
+        longest = sorted(o["events"], key=lambda e: -e["duration_s"])[:5]
+        lines = Text()
+        if longest:
+            lines.append("Longest: ")
+            lines.append(", ".join(f"{e['start'][11:19]} ({fmt_duration(e['duration_s'])})" for e in longest))
+        else:
+            lines.append("No drop-outs in this window.")
+        self.query_one("#outage-list", Static).update(lines)
+
+        if a.sectors:
+            t = Table(box=None, padding=(0, 1), show_edge=False, header_style="bold")
+            t.add_column("Azimuths (true)")
+            t.add_column("Peak", justify="right")
+            t.add_column("Share", justify="right")
+            t.add_column("If cleared", justify="right")
+            t.add_column("Labels", overflow="fold")
+            for sec in a.sectors[:8]:
+                t.add_row(f"{sec.from_deg:5.1f}°–{sec.to_deg:5.1f}°", f"{sec.peak_elevation_deg:.1f}°",
+                          _pct(sec.blocked_share), _pct(sec.blocked_fraction_if_cleared),
+                          Text(", ".join(sec.labels) or "(unlabelled)"))
+            self.query_one("#sectors", Static).update(t)
+        else:
+            self.query_one("#sectors", Static).update("Nothing above the minimum elevation blocks a satellite.")
+        adv = Text()
+        for item in advice:
+            adv.append("→ ", style="bold")
+            adv.append(item["text"] + "\n")
+        self.query_one("#advice", Static).update(adv)
+
+        groups = ", ".join(f"{k} {v}" for k, v in run.fleet.groups.items())
+        assessed = Text()
+        assessed.append(f"Window  {w.start:%Y-%m-%d %H:%M} UTC, {w.hours:g} h at {w.step_s:g} s "
+                        f"({w.count:,} samples)\n")
+        assessed.append(f"Satellites  {len(run.fleet):,}: {groups}"
+                        + (" — illustrative shells, not a real constellation" if run.fleet.illustrative else "")
+                        + "\n")
+        sky = f"above {s.terminal.min_elevation_deg:g}°"
+        if s.terminal.scan_half_angle_deg:
+            sky += f", within {s.terminal.scan_half_angle_deg:g}° of the boresight"
+        assessed.append(f"Usable sky  {sky}; {a.usable_samples:,} samples, {a.blocked_samples:,} blocked\n")
+        assessed.append(f"Compass  declination {run.declination.declination_deg:+.2f}° (WMM2025); bearings "
+                        + ("magnetic, turned to true" if s.horizon.reference == "magnetic" else "true"))
+        self.query_one("#assessed", Static).update(assessed)
+        warn = Text()
+        if run.warnings:
+            warn.append("Warnings\n", style="bold")
+            for msg in run.warnings:
+                warn.append(f"! {msg}\n")
+        self.query_one("#warnings", Static).update(warn)

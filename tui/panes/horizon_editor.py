@@ -1,0 +1,298 @@
+"""Horizon tab: the measured points as a table, a one-line entry to add or
+change a point, and a live preview of the profile.
+
+An installer reads a compass and a clinometer and types two numbers: ``135 36``
+and Enter adds the point and leaves the cursor in the entry for the next one.
+A distance and a label may follow (``135 36 35 alders``).  Each point is checked
+by the engine's own reader (``horizon.parse_point``)."""
+
+from __future__ import annotations
+
+import re
+from dataclasses import replace
+
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.message import Message
+from textual.widgets import DataTable, Input, Label, Static
+
+from survey.errors import Problems
+from survey.horizon import HorizonMask, HorizonPoint, HorizonProfile, parse_point
+
+from ..widgets.profile import HorizonProfile as ProfilePreview
+
+_LEADING_NUMBER = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+))(?:[\s,;]+|$)")
+
+
+def parse_entry(text: str) -> tuple[HorizonPoint | None, str | None]:
+    """A point typed as ``bearing elevation [distance] [label words]`` (spaces,
+    commas or semicolons between the numbers), or (None, reason)."""
+    rest = text.strip()
+    if not rest:
+        return None, "type a bearing and an elevation, e.g. 135 36"
+    numbers = []
+    while len(numbers) < 3:
+        m = _LEADING_NUMBER.match(rest)
+        if not m:
+            break
+        numbers.append(float(m.group(1)))
+        rest = rest[m.end():]
+    label = rest.strip()
+    if len(numbers) < 2:
+        return None, "expected a bearing and an elevation in degrees first, e.g. 135 36"
+    raw = numbers + ([label] if label else [])
+    problems = Problems("point")
+    point = parse_point(raw, "point", problems)
+    if point is None:
+        return None, problems.items[0].split(": ", 2)[-1]
+    return point, None
+
+
+def entry_text(p: HorizonPoint) -> str:
+    parts = [f"{p.azimuth_deg:g}", f"{p.elevation_deg:g}"]
+    if p.distance_m is not None:
+        parts.append(f"{p.distance_m:g}")
+    if p.label:
+        parts.append(p.label)
+    return " ".join(parts)
+
+
+class HorizonEditor(Vertical):
+    BINDINGS = [
+        Binding("a", "add", "Add point"),
+        Binding("e", "edit", "Edit"),
+        Binding("delete,d", "delete", "Delete"),
+        Binding("shift+up", "move(-1)", "Move up", show=False),
+        Binding("shift+down", "move(1)", "Move down", show=False),
+        Binding("ctrl+z", "undo", "Undo"),
+        Binding("i", "import_csv", "Import CSV"),
+        Binding("m", "toggle_reference", "Compass/true"),
+        Binding("escape", "leave_entry", "Back", show=False),
+    ]
+
+    class Changed(Message):
+        def __init__(self, profile: HorizonProfile):
+            super().__init__()
+            self.profile = profile
+
+    def __init__(self, **kw):
+        super().__init__(**kw)
+        self.profile = HorizonProfile()
+        self.declination_deg: float | None = None
+        self.declination_note = ""
+        self.min_elevation_deg = 25.0
+        self.editing: int | None = None  # row being changed through the entry
+        self._undo: list[HorizonProfile] = []
+
+    def compose(self) -> ComposeResult:
+        with Horizontal(id="horizon-body"):
+            with Vertical(id="horizon-left"):
+                yield Static("", markup=False, id="reference", classes="hint")
+                table = DataTable(id="points", cursor_type="row", zebra_stripes=True)
+                yield table
+                with Horizontal(id="entry-row"):
+                    yield Label("Add ", id="entry-label")
+                    yield Input(placeholder="bearing elevation [distance m] [label]  ⏎", id="entry",
+                                compact=True)
+                yield Static("", markup=False, id="entry-msg", classes="field-msg")
+            yield ProfilePreview(id="profile")
+
+    def on_mount(self) -> None:
+        self._refresh_all()
+
+    # ------------------------------------------------------------- data in/out
+    def load(self, profile: HorizonProfile, declination_deg: float | None, note: str = "") -> None:
+        self.profile = profile
+        self.declination_deg, self.declination_note = declination_deg, note
+        self._undo.clear()
+        self.editing = None
+        self._refresh_all()
+
+    def set_declination(self, declination_deg: float | None, note: str = "") -> None:
+        self.declination_deg, self.declination_note = declination_deg, note
+        self._refresh_all(keep_cursor=True)
+
+    def set_min_elevation(self, deg: float) -> None:
+        self.min_elevation_deg = deg
+        self._refresh_preview()
+
+    def true_points(self) -> tuple[HorizonPoint, ...]:
+        if self.profile.reference == "true" or self.declination_deg is None:
+            return self.profile.points
+        return self.profile.to_true(self.declination_deg).points
+
+    def _set(self, profile: HorizonProfile, cursor: int | None = None) -> None:
+        self._undo.append(self.profile)
+        del self._undo[:-50]
+        self.profile = profile
+        self._refresh_all(cursor=cursor)
+        self.post_message(self.Changed(profile))
+
+    # ------------------------------------------------------------- drawing
+    def _refresh_all(self, cursor: int | None = None, keep_cursor: bool = False) -> None:
+        table = self.query_one("#points", DataTable)
+        old = table.cursor_row
+        magnetic = self.profile.reference == "magnetic"
+        table.clear(columns=True)
+        cols = ["#", "Compass°" if magnetic else "Bearing°"] + (["True°"] if magnetic else [])
+        table.add_columns(*cols, "Elev°", "Dist m", "Label")
+        trues = self.true_points()
+        for i, (p, t) in enumerate(zip(self.profile.points, trues)):
+            row = [str(i + 1), f"{p.azimuth_deg:g}"]
+            if magnetic:
+                row.append("?" if self.declination_deg is None else f"{t.azimuth_deg:.1f}")
+            row += [f"{p.elevation_deg:g}", "" if p.distance_m is None else f"{p.distance_m:g}", Text(p.label)]
+            table.add_row(*row)
+        n = len(self.profile.points)
+        if n:
+            row = cursor if cursor is not None else (old if keep_cursor else min(old, n - 1))
+            table.move_cursor(row=max(0, min(row, n - 1)))
+        ref = self.query_one("#reference", Static)
+        if magnetic:
+            dec = "declination unknown until the coordinates are valid" if self.declination_deg is None else \
+                f"declination {self.declination_deg:+.2f}° ({'E' if self.declination_deg >= 0 else 'W'}, " \
+                f"WMM2025) added to each compass bearing"
+            ref.update(f"Compass bearings (magnetic): {dec}.  m: switch to true")
+        else:
+            ref.update("True bearings (no declination applied).  m: switch to compass")
+        if self.declination_note:
+            ref.update(str(ref.renderable) + f"\n{self.declination_note}")
+        self.query_one("#entry-label", Label).update(
+            "Add " if self.editing is None else f"#{self.editing + 1} ")
+        self._refresh_preview()
+
+    def _refresh_preview(self) -> None:
+        preview = self.query_one("#profile", ProfilePreview)
+        trues = self.true_points()
+        mask = HorizonMask.from_points(trues)
+        table = self.query_one("#points", DataTable)
+        cursor_az = trues[table.cursor_row].azimuth_deg if trues and 0 <= table.cursor_row < len(trues) else None
+        preview.show(mask, trues, min_elevation_deg=self.min_elevation_deg, cursor_az=cursor_az)
+
+    def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
+        event.stop()
+        self._refresh_preview()
+
+    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+        event.stop()
+        self.action_edit()
+
+    # ------------------------------------------------------------- entry
+    def on_input_changed(self, event: Input.Changed) -> None:
+        if event.input.id != "entry":
+            return
+        event.stop()
+        msg = self.query_one("#entry-msg", Static)
+        if not event.value.strip():
+            msg.update("")
+            event.input.remove_class("-invalid")
+            return
+        point, problem = parse_entry(event.value)
+        event.input.set_class(problem is not None and len(event.value.split()) >= 2, "-invalid")
+        msg.set_class(problem is not None, "problem")
+        if problem:
+            msg.update(f"✗ {problem}" if len(event.value.split()) >= 2 else "")
+        else:
+            msg.update(f"⏎ to {'add' if self.editing is None else 'change'}: bearing {point.azimuth_deg:g}°, "
+                       f"elevation {point.elevation_deg:g}°"
+                       + (f", {point.distance_m:g} m" if point.distance_m is not None else "")
+                       + (f", '{point.label}'" if point.label else ""))
+
+    def on_input_submitted(self, event: Input.Submitted) -> None:
+        if event.input.id != "entry":
+            return
+        event.stop()
+        point, problem = parse_entry(event.value)
+        msg = self.query_one("#entry-msg", Static)
+        if problem:
+            msg.update(f"✗ {problem}")
+            msg.add_class("problem")
+            event.input.add_class("-invalid")
+            return
+        points = list(self.profile.points)
+        if self.editing is not None and self.editing < len(points):
+            points[self.editing] = point
+            at = self.editing
+            self.editing = None
+            done = f"changed point #{at + 1}"
+        else:
+            points.append(point)
+            at = len(points) - 1
+            done = f"added point #{at + 1}"
+        event.input.value = ""
+        self._set(replace(self.profile, points=tuple(points)), cursor=at)
+        msg.remove_class("problem")
+        msg.update(f"✓ {done}; type the next one")
+
+    def action_leave_entry(self) -> None:
+        """Escape: drop the half-typed point and go back to the table (or, there,
+        cancel a running assessment)."""
+        entry = self.query_one("#entry", Input)
+        if self.editing is not None or entry.has_focus:
+            self.editing = None
+            entry.value = ""
+            self._refresh_all(keep_cursor=True)
+            self.query_one("#points", DataTable).focus()
+        else:
+            self.app.action_cancel_assessment()
+
+    # ------------------------------------------------------------- actions
+    def _selected(self) -> int | None:
+        table = self.query_one("#points", DataTable)
+        n = len(self.profile.points)
+        return table.cursor_row if n and 0 <= table.cursor_row < n else None
+
+    def action_add(self) -> None:
+        self.editing = None
+        self._refresh_all(keep_cursor=True)
+        self.query_one("#entry", Input).focus()
+
+    def action_edit(self) -> None:
+        i = self._selected()
+        if i is None:
+            self.action_add()
+            return
+        self.editing = i
+        entry = self.query_one("#entry", Input)
+        entry.value = entry_text(self.profile.points[i])
+        self._refresh_all(keep_cursor=True)
+        entry.focus()
+
+    def action_delete(self) -> None:
+        i = self._selected()
+        if i is None:
+            return
+        points = list(self.profile.points)
+        gone = points.pop(i)
+        self._set(replace(self.profile, points=tuple(points)), cursor=min(i, len(points) - 1))
+        self.query_one("#entry-msg", Static).update(f"deleted {entry_text(gone)}; ctrl+z brings it back")
+
+    def action_move(self, step: int) -> None:
+        i = self._selected()
+        if i is None or not 0 <= i + step < len(self.profile.points):
+            return
+        points = list(self.profile.points)
+        points[i], points[i + step] = points[i + step], points[i]
+        self._set(replace(self.profile, points=tuple(points)), cursor=i + step)
+
+    def action_undo(self) -> None:
+        if not self._undo:
+            self.app.notify("nothing to undo", timeout=2)
+            return
+        self.profile = self._undo.pop()
+        self._refresh_all(keep_cursor=True)
+        self.post_message(self.Changed(self.profile))
+
+    def action_toggle_reference(self) -> None:
+        """Say which north the typed bearings refer to (the numbers stay as typed)."""
+        ref = "true" if self.profile.reference == "magnetic" else "magnetic"
+        self._set(replace(self.profile, reference=ref), cursor=self._selected())
+
+    def action_import_csv(self) -> None:
+        self.app.action_import_horizon()
+
+    def replace_points(self, points, append: bool) -> None:
+        new = (tuple(self.profile.points) + tuple(points)) if append else tuple(points)
+        self._set(replace(self.profile, points=new), cursor=0 if not append else len(new) - 1)

@@ -1,0 +1,119 @@
+"""Site tab: where the site is, how the terminal is mounted, who surveyed it.
+
+Every field is checked as it is typed (``tui.fields``: the engine's own site
+reader decides), with the reason shown beside it; the form reports a complete
+set of valid values, or None while any field is refused."""
+
+from __future__ import annotations
+
+from textual.app import ComposeResult
+from textual.containers import Horizontal, VerticalScroll
+from textual.message import Message
+from textual.widgets import Input, Label, Select, Static
+
+from ..fields import CHOICES, FIELDS, field_values, parse_field
+
+_SECTIONS = {"site.name": "Where", "mount.kind": "Mount and terminal", "survey.surveyor": "Survey"}
+
+
+def _dom_id(key: str) -> str:
+    return "f-" + key.replace(".", "-")
+
+
+class SiteForm(VerticalScroll):
+    class Changed(Message):
+        """The form's values changed: ``values`` (None while any field is refused)
+        and ``problems`` (field key -> reason)."""
+
+        def __init__(self, values: dict | None, problems: dict[str, str]):
+            super().__init__()
+            self.values, self.problems = values, problems
+
+    def __init__(self, **kw):
+        super().__init__(**kw)
+        self._loading = False
+        self.problems: dict[str, str] = {}
+        self.values: dict = {}
+
+    def compose(self) -> ComposeResult:
+        for spec in FIELDS:
+            if spec.key in _SECTIONS:
+                yield Static(_SECTIONS[spec.key], classes="section")
+            with Horizontal(classes="field-row"):
+                yield Label(spec.label + (" *" if spec.required else ""), classes="field-label")
+                if spec.kind == "choice":
+                    yield Select([(c, c) for c in CHOICES[spec.key]], allow_blank=False, id=_dom_id(spec.key),
+                                 compact=True, classes="field-input")
+                else:
+                    yield Input(placeholder=spec.placeholder, id=_dom_id(spec.key), compact=True,
+                                classes="field-input")
+            yield Static("", markup=False, id=_dom_id(spec.key) + "-msg", classes="field-msg")
+
+    def load(self, site) -> None:
+        """Fill the fields from a site (None: a new site, fields blank)."""
+        self._loading = True
+        texts = field_values(site) if site is not None else {}
+        for spec in FIELDS:
+            widget = self.query_one("#" + _dom_id(spec.key))
+            text = texts.get(spec.key, "")
+            if isinstance(widget, Select):
+                widget.value = text or CHOICES[spec.key][0]
+            else:
+                widget.value = text
+        self._loading = False
+        self._check_all(post=False)
+
+    def _text(self, key: str) -> str:
+        widget = self.query_one("#" + _dom_id(key))
+        return str(widget.value) if widget.value is not Select.BLANK else ""
+
+    def _check(self, key: str) -> None:
+        value, problem, note = parse_field(key, self._text(key))
+        msg = self.query_one("#" + _dom_id(key) + "-msg", Static)
+        widget = self.query_one("#" + _dom_id(key))
+        widget.set_class(bool(problem), "-invalid")
+        msg.set_class(bool(problem), "problem")
+        msg.update(f"✗ {problem}" if problem else note)
+        msg.display = bool(problem or note)
+        if problem:
+            self.problems[key] = problem
+        else:
+            self.problems.pop(key, None)
+        self.values[key] = value
+
+    def _check_all(self, post: bool = True) -> None:
+        for spec in FIELDS:
+            self._check(spec.key)
+        if post:
+            self._post()
+
+    def _post(self) -> None:
+        self.post_message(self.Changed(None if self.problems else dict(self.values), dict(self.problems)))
+
+    def on_input_changed(self, event: Input.Changed) -> None:
+        event.stop()
+        if self._loading:
+            return
+        self._check(event.input.id.removeprefix("f-").replace("-", ".", 1))
+        self._post()
+
+    def on_select_changed(self, event: Select.Changed) -> None:
+        event.stop()
+        if self._loading:
+            return
+        self._check(event.select.id.removeprefix("f-").replace("-", ".", 1))
+        self._post()
+
+    def first_problem(self) -> str | None:
+        """The first refused field as 'Label: reason', for the status line."""
+        for spec in FIELDS:
+            if spec.key in self.problems:
+                return f"{spec.label}: {self.problems[spec.key]}"
+        return None
+
+    def focus_first_problem(self) -> None:
+        for spec in FIELDS:
+            if spec.key in self.problems:
+                self.query_one("#" + _dom_id(spec.key)).focus()
+                return
+        self.query_one("#" + _dom_id(FIELDS[0].key)).focus()

@@ -1,0 +1,146 @@
+"""Spots tab: the site plan from above, the candidate spots ranked, and a way
+to make the chosen spot the site's mount."""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.message import Message
+from textual.widgets import DataTable, Static
+
+from survey.safety import spot_note
+
+from ..widgets.planchart import PlanChart
+
+GROWTH_STEPS = (0.0, 5.0, 10.0)
+
+
+def _pct(x) -> str:
+    return "n/a" if x is None else f"{100 * x:.1f} %"
+
+
+class SpotsView(Vertical):
+    BINDINGS = [
+        Binding("r", "rank", "Rank spots"),
+        Binding("g", "growth", "Tree growth"),
+        Binding("u", "use_spot", "Use as mount"),
+    ]
+
+    class UseSpot(Message):
+        """Make this candidate the site's mount."""
+
+        def __init__(self, result):
+            super().__init__()
+            self.result = result
+
+    class RankRequested(Message):
+        def __init__(self, years: float):
+            super().__init__()
+            self.years = years
+
+    def __init__(self, **kw):
+        super().__init__(**kw)
+        self.ranking = None
+        self.run = None
+        self.rows: list = []
+        self.years = 0.0
+
+    def compose(self) -> ComposeResult:
+        yield Static("", markup=False, id="spots-head", classes="hint")
+        with Horizontal(id="spots-body"):
+            yield PlanChart(id="plan")
+            with Vertical(id="spots-right"):
+                yield DataTable(id="ranking", cursor_type="row", zebra_stripes=True)
+                yield Static("", markup=False, id="spots-notes", classes="hint")
+
+    def on_mount(self) -> None:
+        self._head()
+
+    def _head(self, extra: str = "") -> None:
+        has_plan = self.run is not None and self.run.site.plan is not None and self.run.site.plan.has_candidates
+        if self.run is not None and not has_plan:
+            text = ("This site has no plan with candidate spots.  Add a [plan] to the site file "
+                    "(obstacles, mounting areas, poles; see the README) to rank where to mount.")
+        else:
+            text = (f"r: rank  g: tree growth ({self.years:g} years)  u or ⏎: use the selected spot as the mount"
+                    + (f"   {extra}" if extra else ""))
+        self.query_one("#spots-head", Static).update(Text(text))
+        self.query_one("#spots-body").display = self.run is None or has_plan
+
+    def show_run(self, run) -> None:
+        """A new assessment: an earlier ranking is out of date."""
+        changed = self.run is None or run.site.plan != self.run.site.plan or run.tracks is not self.run.tracks
+        self.run = run
+        if changed and self.ranking is not None:
+            self.ranking = None
+            self._head("(site changed: press r to rank again)")
+        else:
+            self._head()
+
+    def show_ranking(self, run, ranking) -> None:
+        self.run, self.ranking = run, ranking
+        table = self.query_one("#ranking", DataTable)
+        table.clear(columns=True)
+        table.add_columns("Spot", "Kind", "E m", "N m", "H m", "Blocked", "Interr.")
+        self.rows = ranking.best_of_each()
+        for r in self.rows:
+            c = r.candidate
+            table.add_row(Text(c.name), c.kind, f"{c.east_m:.1f}", f"{c.north_m:.1f}", f"{c.height_m:.2f}",
+                          _pct(r.blocked_fraction), _pct(r.interruption))
+        sp = ranking.survey_point
+        notes = [f"Survey point ({sp['height_m']:g} m, measured horizon): blocked {_pct(sp['blocked_fraction'])}."]
+        for p in ranking.poles:
+            if p.lowest is None:
+                notes.append(f"Pole {p.pole}: no height up to {p.max_height_m:g} m reaches "
+                             f"{_pct(p.target_blocked)} blocked.")
+            else:
+                notes.append(f"Pole {p.pole}: {p.lowest.candidate.height_m:g} m is the lowest at or under "
+                             f"{_pct(p.target_blocked)} blocked.")
+        for y, r in ranking.over_time[1:]:
+            notes.append(f"Best spot after {y:g} years of growth: blocked {_pct(r.blocked_fraction)}.")
+        notes += [f"! {w}" for w in ranking.warnings]
+        notes.append(spot_note(run.site.mount.kind))
+        self.query_one("#spots-notes", Static).update(Text("\n".join(notes)))
+        self._head(f"{len(ranking.results):,} candidates ranked")
+        self._show_plan()
+        if self.rows:
+            table.move_cursor(row=0)
+
+    def _selected(self):
+        table = self.query_one("#ranking", DataTable)
+        if not self.rows or not 0 <= table.cursor_row < len(self.rows):
+            return None
+        return self.rows[table.cursor_row]
+
+    def _show_plan(self) -> None:
+        if self.run is None or self.ranking is None:
+            return
+        sel = self._selected()
+        at = (sel.candidate.east_m, sel.candidate.north_m) if sel is not None else None
+        self.query_one("#plan", PlanChart).show(self.run, self.ranking, selected=at)
+
+    def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
+        event.stop()
+        self._show_plan()
+
+    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+        event.stop()
+        self.action_use_spot()
+
+    def action_rank(self) -> None:
+        self.post_message(self.RankRequested(self.years))
+
+    def action_growth(self) -> None:
+        i = GROWTH_STEPS.index(self.years) if self.years in GROWTH_STEPS else 0
+        self.years = GROWTH_STEPS[(i + 1) % len(GROWTH_STEPS)]
+        self._head()
+        self.action_rank()
+
+    def action_use_spot(self) -> None:
+        sel = self._selected()
+        if sel is None:
+            self.app.notify("rank the spots first (r), then pick one", timeout=3)
+            return
+        self.post_message(self.UseSpot(sel))

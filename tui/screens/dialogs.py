@@ -1,0 +1,193 @@
+"""Small modal questions: a file name, a choice between a few answers, the
+safety note, the report export."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.screen import ModalScreen
+from textual.widgets import Button, Input, Label, RadioButton, RadioSet, Static
+
+from survey.errors import InputError
+from survey.report import format_for
+from survey.safety import notes_for
+
+
+class _AnswerDialog(ModalScreen):
+    """A dialog around one text field (#answer): Enter or OK answers once
+    ``refusal()`` has no objection, which is shown under the field otherwise;
+    Escape or Cancel answers None."""
+
+    BINDINGS = [Binding("escape", "cancel", "Cancel")]
+
+    def on_mount(self) -> None:
+        field = self.query_one("#answer", Input)
+        field.focus()
+        field.cursor_position = len(field.value)
+
+    def refusal(self, text: str) -> str | None:
+        return None
+
+    def answer(self, text: str):
+        return text
+
+    def _answer(self) -> None:
+        field = self.query_one("#answer", Input)
+        text = field.value.strip()
+        problem = self.refusal(text)
+        if problem:
+            hint = self.query_one("#hint", Static)
+            hint.update(problem)
+            hint.add_class("problem")
+            field.add_class("-invalid")
+            return
+        self.dismiss(self.answer(text))
+
+    def on_input_submitted(self, event: Input.Submitted) -> None:
+        event.stop()
+        self._answer()
+
+    def on_button_pressed(self, event: Button.Pressed) -> None:
+        event.stop()
+        if event.button.id == "ok":
+            self._answer()
+        else:
+            self.dismiss(None)
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class AskText(_AnswerDialog):
+    """One line of text (a file name, mostly).  ``check(text)`` returns a reason
+    to refuse the answer, or None."""
+
+    def __init__(self, title: str, value: str = "", hint: str = "", check=None, placeholder: str = ""):
+        super().__init__()
+        self.title_text, self.value, self.hint, self.check = title, value, hint, check
+        self.placeholder = placeholder
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog"):
+            yield Label(self.title_text, markup=False, classes="dialog-title")
+            yield Input(self.value, placeholder=self.placeholder, id="answer")
+            yield Static(self.hint, markup=False, id="hint", classes="hint")
+            with Horizontal(classes="buttons"):
+                yield Button("OK", variant="primary", id="ok")
+                yield Button("Cancel", id="cancel")
+
+    def refusal(self, text: str) -> str | None:
+        return self.check(text) if self.check else None
+
+
+class AskChoice(ModalScreen[str | None]):
+    """A question with a few answers as buttons (first is the default);
+    Escape answers None."""
+
+    BINDINGS = [Binding("escape", "cancel", "Cancel"), Binding("left", "focus_previous", show=False),
+                Binding("right", "focus_next", show=False)]
+
+    def __init__(self, question: str, answers: list[tuple[str, str]], detail: str = ""):
+        super().__init__()
+        self.question, self.answers, self.detail = question, answers, detail
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog"):
+            yield Label(self.question, markup=False, classes="dialog-title")
+            if self.detail:
+                yield Static(self.detail, markup=False, classes="hint")
+            with Horizontal(classes="buttons"):
+                for i, (key, label) in enumerate(self.answers):
+                    yield Button(label, id=f"answer-{key}", variant="primary" if i == 0 else "default")
+
+    def on_mount(self) -> None:
+        self.query(Button).first().focus()
+
+    def on_button_pressed(self, event: Button.Pressed) -> None:
+        event.stop()
+        self.dismiss(event.button.id.removeprefix("answer-"))
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class SafetyNote(ModalScreen[bool]):
+    """The work-at-height cautions for the site's mount kind.  Shown on F1, and
+    once before a site's first export (``before_export``)."""
+
+    BINDINGS = [Binding("escape", "close", "Close"), Binding("enter", "close", "Understood", show=False)]
+
+    def __init__(self, mount_kind: str, before_export: bool = False):
+        super().__init__()
+        self.mount_kind, self.before_export = mount_kind, before_export
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog safety"):
+            yield Label("⚠ Safety before you climb", classes="dialog-title")
+            with VerticalScroll(classes="safety-lines"):
+                for line in notes_for(self.mount_kind):
+                    yield Static(f"• {line}", markup=False, classes="safety-line")
+            if self.before_export:
+                yield Static("The report carries this note too.", classes="hint")
+            with Horizontal(classes="buttons"):
+                yield Button("Understood", variant="primary", id="understood")
+
+    def on_mount(self) -> None:
+        self.query_one("#understood", Button).focus()
+
+    def on_button_pressed(self, event: Button.Pressed) -> None:
+        event.stop()
+        self.dismiss(True)
+
+    def action_close(self) -> None:
+        self.dismiss(True)
+
+
+def check_report_path(text: str) -> str | None:
+    """Why a report file name cannot be used, or None."""
+    if not text:
+        return "type a file name ending in .pdf, .html or .json"
+    path = Path(text).expanduser()
+    try:
+        format_for(path)
+    except InputError as exc:
+        return exc.problems[0].split(": ", 1)[-1]
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        return f"folder {folder} does not exist"
+    if path.is_dir():
+        return f"{path} is a folder"
+    return None
+
+
+class ExportReport(_AnswerDialog):
+    """The report's file name (its extension picks PDF, HTML or JSON) and paper;
+    answers (path, paper)."""
+
+    def __init__(self, suggested: Path, paper: str = "a4"):
+        super().__init__()
+        self.suggested, self.paper = suggested, paper
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog"):
+            yield Label("Write the site report", classes="dialog-title")
+            yield Input(str(self.suggested), id="answer")
+            yield Static(".pdf to print or hand over, .html for a phone, .json to keep or remake it",
+                         markup=False, id="hint", classes="hint")
+            with RadioSet(id="paper"):
+                yield RadioButton("A4", value=self.paper == "a4", id="paper-a4")
+                yield RadioButton("US Letter", value=self.paper == "letter", id="paper-letter")
+            with Horizontal(classes="buttons"):
+                yield Button("Write", variant="primary", id="ok")
+                yield Button("Cancel", id="cancel")
+
+    def refusal(self, text: str) -> str | None:
+        return check_report_path(text)
+
+    def answer(self, text: str):
+        pressed = self.query_one("#paper", RadioSet).pressed_button
+        paper = "letter" if pressed is not None and pressed.id == "paper-letter" else "a4"
+        return Path(text).expanduser(), paper
