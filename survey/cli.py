@@ -16,7 +16,7 @@ from pathlib import Path
 from . import __version__
 from .errors import InputError, Problems
 from .fileio import atomic_write_bytes
-from .pipeline import FleetChoice, SiteRun, result_dict, run_site
+from .pipeline import FleetChoice, SiteRun, mount_text, result_dict, run_site
 from .report import format_for, load_report_inputs, write_report
 from .safety import short_note, spot_note
 from .site import load_site, parse_time
@@ -166,8 +166,8 @@ def format_summary(run: SiteRun) -> str:
                 f"{s.terminal.tilt_deg:g}° toward {s.terminal.tilt_azimuth_deg:g}°")
     lines = [
         f"{s.name}",
-        f"  at {abs(s.latitude_deg):.5f}°{ns} {abs(s.longitude_deg):.5f}°{ew}, ground {s.elevation_m:g} m, "
-        f"{s.mount.kind} mount {s.mount.height_m:g} m up",
+        f"  at {abs(s.latitude_deg):.5f}°{ns} {abs(s.longitude_deg):.5f}°{ew}, ground {s.elevation_m:g} m",
+        f"  mount       {mount_text(s)}",
         f"  window      {d['window']['start']}, {w.hours:g} h at {w.step_s:g} s ({w.count} samples)",
         f"  satellites  {len(run.fleet)}: {groups}" + ("  [illustrative]" if run.fleet.illustrative else ""),
         f"  usable sky  {sky}; {a.usable_samples} samples",
@@ -293,12 +293,12 @@ def cmd_horizon(args) -> int:
 def format_spots(run: SiteRun, ranking) -> str:
     """The spot ranking, fitted to an 80-column terminal: the best spot, then the
     best position of each named candidate, pole heights, and growth."""
-    s, a = run.site, run.assessment
+    s, sp = run.site, ranking.survey_point
     grown = f", trees grown {ranking.years:g} years" if ranking.years else ""
     b = ranking.best
     lines = [f"{s.name}: {len(ranking.results):,} candidate spots ranked{grown}",
-             f"  survey point  blocked {_pct(a.blocked_fraction)}, interruption {_pct(a.interruption)} "
-             f"(measured, {s.mount.height_m:g} m up)",
+             f"  survey point  blocked {_pct(sp['blocked_fraction'])}, interruption {_pct(sp['interruption'])} "
+             f"(measured, {sp['height_m']:g} m up)",
              f"  BEST  {b.candidate.name} at {b.candidate.height_m:g} m "
              f"({b.candidate.east_m:.1f} E, {b.candidate.north_m:.1f} N): blocked {_pct(b.blocked_fraction)}, "
              f"interruption {_pct(b.interruption)}", "",

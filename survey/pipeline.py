@@ -189,6 +189,16 @@ def mount_dict(site: Site) -> dict:
     return out
 
 
+def mount_text(site: Site) -> str:
+    """The mount in words: kind, antenna height, and where on the plan if placed."""
+    text = (f"{site.mount.kind}, antenna {site.mount.height_m:g} m above "
+            + ("deck" if site.mount.kind == "marine" else "ground"))
+    if site.mount.at is not None:
+        text += (f", at {site.mount.at[0]:.1f} m E, {site.mount.at[1]:.1f} m N of the site point "
+                 "(horizon derived from the plan)")
+    return text
+
+
 def result_dict(run: SiteRun) -> dict:
     """The JSON object of ``leosite assess --json`` (keys in DESIGN.md)."""
     s, a, w = run.site, run.assessment, run.window

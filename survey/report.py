@@ -28,7 +28,7 @@ from . import __version__
 from .assess import Assessment, Sector, assess
 from .errors import InputError
 from .fileio import atomic_write_bytes, read_text
-from .pipeline import FleetChoice, SiteRun, mount_dict, result_dict
+from .pipeline import FleetChoice, SiteRun, mount_dict, mount_text, result_dict
 from .plan import plan_tables
 from .safety import notes_for
 from .site import Site, site_from_dict
@@ -276,8 +276,7 @@ def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
 
     header = [("Site", s.name), ("Coordinates", _coords(s.latitude_deg, s.longitude_deg)),
               ("Ground elevation", f"{s.elevation_m:g} m above sea level"),
-              ("Mount", f"{s.mount.kind}, antenna {s.mount.height_m:g} m above "
-                        + ("deck" if s.mount.kind == "marine" else "ground")),
+              ("Mount", mount_text(s)),
               ("Surveyed by", sv.get("surveyor", "") or "-"),
               ("Organisation", sv.get("organisation", "") or "-"),
               ("Customer", sv.get("customer", "") or "-"),
