@@ -90,6 +90,9 @@ def test_whole_workflow_open_edit_export_quit(tmp_path):
             assert "Alder Brook farmhouse" in text and "MARGINAL" in text
             assert f"{100 * first.assessment.blocked_fraction:.1f} %" in text
 
+            await until(pilot, lambda: app.advice, what="the what-if advice")
+            advice = str(app.workspace.query_one("#advice").render())
+            assert "Trimming or removing the alders" in advice  # report.recommendations, computed
             await pilot.press("f3")
             assert app.workspace.query_one("#points").has_focus
             await pilot.press("a")
@@ -225,7 +228,7 @@ def test_bad_csv_import_is_a_message_and_leaves_the_site(tmp_path):
 
 
 def test_new_site_from_scratch(tmp_path):
-    site_file = tmp_path / "sites" / "hillside" / "site.toml"
+    site_file = tmp_path / "work" / "hillside-test-plot" / "site.toml"  # the name makes the folder
 
     async def scenario():
         app = app_for(None, tmp_path)
@@ -233,13 +236,14 @@ def test_new_site_from_scratch(tmp_path):
             assert isinstance(app.screen, StartScreen)
             await pilot.press("n")
             assert isinstance(app.screen, AskText)
-            app.screen.query_one("#answer").value = str(site_file)
+            await type_text(pilot, "Hillside test plot")
             await pilot.press("enter")
             await until(pilot, lambda: isinstance(app.screen, Workspace))
             await pilot.pause()
             assert "stale" in status_text(app)
             ws = app.workspace
-            for key, value in (("site-name", "Hillside test plot"), ("site-latitude", "52 12.5 N"),
+            assert ws.query_one("#f-site-name").value == "Hillside test plot"
+            for key, value in (("site-latitude", "52 12.5 N"),
                                ("site-longitude", "0 7 W"), ("mount-height_m", "4")):
                 ws.query_one(f"#f-{key}").value = value
                 await pilot.pause(0.05)
@@ -293,6 +297,14 @@ def test_spot_made_the_mount(tmp_path):
             await until(pilot, lambda: app.latest is not None and app.latest.site.mount.at is not None,
                         what="re-assessment at the spot")
             assert app.latest.assessment.blocked_fraction == best.blocked_fraction  # the ranking's own figure
+            assert app.workspace.query_one("#f-mount-height_m").value == f"{best.candidate.height_m:g}"
+            await pilot.press("f3")  # a later horizon edit keeps the chosen spot
+            await pilot.press("a")
+            await type_text(pilot, "300 3")
+            await pilot.press("enter")
+            await until(pilot, lambda: len(app.latest.site.horizon.points) == 16, what="re-assessment")
+            assert app.latest.site.mount.at is not None
+            assert app.latest.site.mount.height_m == best.candidate.height_m
             await until(pilot, lambda: not app.session.dirty)
             await pilot.press("ctrl+q")
         return best
@@ -301,3 +313,27 @@ def test_spot_made_the_mount(tmp_path):
     saved = load_site(site_file)
     assert saved.mount.at == pytest.approx((best.candidate.east_m, best.candidate.north_m), abs=1e-3)
     assert saved.mount.height_m == pytest.approx(best.candidate.height_m)
+
+
+def test_a_bundled_demo_opens_as_a_copy(tmp_path):
+    """Opening a bundled demo by its path edits a working copy, never the bundle."""
+    bundled = DEMO / "tussock-ridge-croft" / "site.toml"
+    before = bundled.read_bytes()
+
+    async def scenario():
+        app = app_for(bundled, tmp_path)
+        async with app.run_test(size=(100, 30)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            assert app.session.path == (tmp_path / "work" / "tussock-ridge-croft" / "site.toml").resolve()
+            await pilot.press("f3")
+            await pilot.press("a")
+            await type_text(pilot, "90 40 new shed")
+            await pilot.press("enter")
+            await until(pilot, lambda: app.session.dirty is False and app.latest.site.horizon.points[-1].label
+                        == "new shed")
+            await pilot.press("ctrl+q")
+        return app
+
+    app = drive(scenario())
+    assert bundled.read_bytes() == before
+    assert load_site(app.session.path).horizon.points[-1].label == "new shed"

@@ -25,7 +25,7 @@ from survey.horizon import read_horizon_csv
 from survey.magnetic import declination
 from survey.report import recommendations, write_report
 
-from .fields import apply_fields
+from .fields import apply_fields, new_site_defaults
 from .panes.findings import FindingsPane
 from .panes.horizon_editor import HorizonEditor
 from .panes.site_form import SiteForm
@@ -34,7 +34,7 @@ from .panes.spots_view import SpotsView
 from .screens.dialogs import AskChoice, AskText, ExportReport, SafetyNote
 from .screens.start import StartScreen
 from .screens.workspace import Workspace
-from .session import Assessor, Cancelled, Session, copy_demo, fleet_choice_for, slug
+from .session import Assessor, Cancelled, Session, bundled_demo, copy_demo, fleet_choice_for, slug
 from .widgets.status import StatusLine
 
 AUTOSAVE_S = 1.5  # a killed terminal loses at most this much typing
@@ -62,8 +62,10 @@ class LeositeApp(App):
         self.advice: list[dict] = []
         self._save_timer = None
         self._form_timer = None
+        self._new_name = ""
+        self._edited_at: float | None = None
+        self.update_times: list[float] = []  # seconds from an edit to its findings drawn
         self._generation = 0
-        self._form_values: dict | None = None
         self._form_problem: str | None = None
 
     def notify(self, message: str, *, markup: bool = False, **kw) -> None:
@@ -82,6 +84,10 @@ class LeositeApp(App):
             (s for s in self.screen_stack if isinstance(s, Workspace)), None)
 
     def open_site(self, path: Path) -> bool:
+        demo = bundled_demo(path)
+        if demo is not None:  # edits autosave: never into the bundled demo files
+            self.open_demo(demo)
+            return self.session is not None
         try:
             session = Session.open(path)
         except InputError as exc:
@@ -99,11 +105,12 @@ class LeositeApp(App):
         if self.open_site(path):
             self.notify(f"Working on a copy: {path}", timeout=6)
 
-    def _enter(self, session: Session) -> None:
+    def _enter(self, session: Session, name: str = "") -> None:
         self.session = session
+        self._new_name = name
         self.latest = None  # the last SiteRun shown
         self.advice = []
-        self._form_values, self._form_problem = None, None
+        self._form_problem = None
         ws = Workspace()
         if self.workspace is not None:
             self.switch_screen(ws)
@@ -113,7 +120,11 @@ class LeositeApp(App):
 
     def _load_workspace(self) -> None:
         ws, site = self.workspace, self.session.site
-        ws.query_one(SiteForm).load(site)
+        form = ws.query_one(SiteForm)
+        form.load(site)
+        if site is None:  # a new site: the defaults the engine would assume, shown, and today's date
+            for key, text in new_site_defaults(self._new_name).items():
+                form.prefill(key, text)
         editor = ws.query_one(HorizonEditor)
         if site is not None:
             dec, note = self._declination(site)
@@ -142,7 +153,6 @@ class LeositeApp(App):
         """Typing in a field: the field is checked at once (by the form); the site
         follows once typing pauses, so half-typed numbers ("9" on the way to
         "95.5") are never assessed or saved."""
-        self._form_values = event.values
         self._form_problem = None if event.values is not None else self.workspace.query_one(SiteForm).first_problem()
         if self._form_problem:
             self._status(state=f"stale: {self._form_problem}", saved="unsaved")
@@ -161,16 +171,11 @@ class LeositeApp(App):
         """Build the site from the form and the horizon table; only a valid one
         goes on to be saved and assessed."""
         ws = self.workspace
-        if self._form_problem:
-            self._status(state=f"stale: {self._form_problem}", saved="unsaved")
+        form = ws.query_one(SiteForm)
+        if form.problems:
+            self._status(state=f"stale: {form.first_problem()}", saved="unsaved")
             return
-        values = self._form_values
-        if values is None:
-            form = ws.query_one(SiteForm)
-            if form.problems:
-                self._status(state=f"stale: {form.first_problem()}", saved="unsaved")
-                return
-            values = form.values
+        values = form.values  # as the fields read now (a chosen spot reloads them)
         editor = ws.query_one(HorizonEditor)
         base = self.session.site
         try:
@@ -190,6 +195,7 @@ class LeositeApp(App):
         editor.set_min_elevation(site.terminal.min_elevation_deg)
         self._status(site_name=site.name, saved="unsaved")
         self._schedule_autosave()
+        self._edited_at = time.monotonic()
         self.request_assessment()
 
     def _schedule_autosave(self) -> None:
@@ -244,6 +250,8 @@ class LeositeApp(App):
 
         try:
             run = self.assessor.run(site, progress, cancelled=lambda: worker.is_cancelled)
+            if not worker.is_cancelled:  # the figures first; the what-if advice follows
+                self.call_from_thread(self._assess_done, generation, run, None)
             advice = recommendations(run)
         except Cancelled:
             return
@@ -254,7 +262,7 @@ class LeositeApp(App):
             self.call_from_thread(self._assess_failed, generation, [f"unexpected error: {exc!r}"])
             return
         if not worker.is_cancelled:
-            self.call_from_thread(self._assess_done, generation, run, advice)
+            self.call_from_thread(self._advice_done, generation, run, advice)
 
     def _progress(self, generation: int, fraction: float) -> None:
         if generation != self._generation or self.workspace is None:
@@ -275,21 +283,30 @@ class LeositeApp(App):
         self._status(state="error: findings not updated")
         self.notify("\n".join(problems[:4]), title="Assessment failed", severity="error", timeout=10)
 
+    def _advice_done(self, generation: int, run, advice: list[dict]) -> None:
+        if generation != self._generation or self.workspace is None or run is not self.latest:
+            return
+        self.advice = advice
+        self.workspace.query_one(FindingsPane).show_advice(advice)
+
     def _assess_done(self, generation: int, run, advice) -> None:
         if generation != self._generation or self.workspace is None:
             return
-        self.latest, self.advice = run, advice
+        self.latest, self.advice = run, []
         self._hide_progress()
         a = run.assessment
         self._status(verdict=a.verdict, blocked=a.blocked_fraction, interruption=a.interruption,
                      availability=a.availability, state="")
         ws = self.workspace
-        ws.query_one(FindingsPane).show_run(run, advice)
+        ws.query_one(FindingsPane).show_run(run)
         ws.query_one(SkyView).show_run(run)
         ws.query_one(SpotsView).show_run(run)
         editor = ws.query_one(HorizonEditor)
         if run.site.horizon.reference == "magnetic":
             editor.set_declination(run.declination.declination_deg, "; ".join(run.declination.warnings))
+        if self._edited_at is not None:  # edit to findings on screen, for bench/bench_ui.py
+            edited, self._edited_at = self._edited_at, None
+            self.call_after_refresh(lambda: self.update_times.append(time.monotonic() - edited))
 
     def action_cancel_assessment(self) -> None:
         running = [w for w in self.workers if w.group == "assess" and w.is_running]
@@ -355,12 +372,7 @@ class LeositeApp(App):
             if answer != "use":
                 return
             site = self.session.site
-            mount = replace(site.mount, height_m=round(c.height_m, 3), at=(round(c.east_m, 3), round(c.north_m, 3)))
-            self.session.update(replace(site, mount=mount))
-            self.workspace.query_one(SiteForm).load(self.session.site)
-            self._status(saved="unsaved")
-            self._schedule_autosave()
-            self.request_assessment()
+            self._set_site(replace(site, mount=replace(site.mount, height_m=c.height_m, at=(c.east_m, c.north_m))))
             self.notify(f"Mount set to {c.name} ({c.east_m:.1f} m E, {c.north_m:.1f} m N, {c.height_m:g} m up); "
                         "findings now use the horizon derived there", timeout=6)
 
@@ -371,30 +383,54 @@ class LeositeApp(App):
             "The findings will use the horizon the plan gives there; the measured points stay as the "
             "survey-point record."), answered)
 
-    # ---------------------------------------------------------------- files
-    def action_new_site(self) -> None:
-        suggested = self.work_root / "new-site" / "site.toml"
+    def on_spots_view_use_survey_point(self, event: SpotsView.UseSurveyPoint) -> None:
+        site = self.session.site
+        mount = replace(site.mount, at=None, height_m=site.horizon_height_m)
+        self._set_site(replace(site, mount=mount))
+        self.notify(f"Mount back at the survey point, {mount.height_m:g} m up, on the measured horizon", timeout=5)
 
+    def _set_site(self, site) -> None:
+        """A site changed outside the form (a spot chosen): show it, save it, assess it."""
+        self.session.update(site)
+        self.workspace.query_one(SiteForm).load(self.session.site)
+        self._status(saved="unsaved")
+        self._schedule_autosave()
+        self.request_assessment()
+
+    # ---------------------------------------------------------------- files
+    def _new_site_path(self, text: str) -> Path:
+        """A new site's file: a typed path to a .toml file, or a site name, kept
+        in its own folder under the work folder."""
+        if text.lower().endswith(".toml") or "/" in text:
+            return Path(text).expanduser()
+        return self.work_root / slug(text) / "site.toml"
+
+    def action_new_site(self) -> None:
         def check(text: str) -> str | None:
             if not text:
-                return "type a file name for the site, ending in .toml"
-            p = Path(text).expanduser()
+                return "type the site's name (or a path ending in site.toml)"
+            p = self._new_site_path(text)
             if p.suffix.lower() != ".toml":
                 return "a site file name ends in .toml"
             if p.exists():
-                return f"{p} already exists: open it instead"
+                return f"{p} already exists: open it instead, or choose another name"
             return None
 
         def answered(text) -> None:
-            if text:
-                try:
-                    self._enter(Session.new(Path(text).expanduser()))
-                except InputError as exc:
-                    self.notify(exc.problems[0], severity="error")
+            if not text:
+                return
+            try:
+                session = Session.new(self._new_site_path(text))
+            except InputError as exc:
+                self.notify(exc.problems[0], severity="error")
+                return
+            named = not (text.lower().endswith(".toml") or "/" in text)
+            self._enter(session, name=text if named else "")
 
-        self.push_screen(AskText("New site: where to keep its file", str(suggested),
-                                 "The folder is made if needed; the file is written once the site has a name "
-                                 "and valid coordinates.", check), answered)
+        self.push_screen(AskText("New site: its name", "",
+                                 f"Kept in {self.work_root}/<name>/site.toml (or type a path ending in "
+                                 "site.toml).  The file is written once the site has valid coordinates.",
+                                 check, placeholder="e.g. Hillside farm"), answered)
 
     def action_open_site(self) -> None:
         def answered(text) -> None:

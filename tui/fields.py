@@ -9,6 +9,7 @@ and the reason shown at the field is the engine's own wording.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+from datetime import datetime, timezone
 from pathlib import Path
 
 from survey.angles import format_dms, parse_angle
@@ -114,6 +115,15 @@ def field_values(site: Site) -> dict[str, str]:
         "terminal.tilt_azimuth_deg": num(t.tilt_azimuth_deg),
         **{f"survey.{k}": site.survey.get(k, "") for k in ("surveyor", "organisation", "customer", "date", "notes")},
     }
+
+
+def new_site_defaults(name: str = "", today: datetime | None = None) -> dict[str, str]:
+    """A new site's fields: the engine's own defaults (so the installer sees
+    what is assumed) and today's UTC date as the survey date; no coordinates."""
+    texts = field_values(Site(name, 0.0, 0.0))
+    texts["site.latitude"] = texts["site.longitude"] = ""
+    texts["survey.date"] = (today or datetime.now(timezone.utc)).strftime("%Y-%m-%d")
+    return texts
 
 
 def apply_fields(values: dict, base: Site | None, path: Path) -> Site:

@@ -148,6 +148,18 @@ def demo_sites() -> list[DemoSite]:
     return out
 
 
+def bundled_demo(path: str | Path) -> DemoSite | None:
+    """The demo site ``path`` points into, if it is one of the bundled ones."""
+    root = demo_root()
+    if root is None:
+        return None
+    try:
+        rel = Path(path).resolve().relative_to(root)
+    except ValueError:
+        return None
+    return next((d for d in demo_sites() if d.folder.name == rel.parts[0]), None) if rel.parts else None
+
+
 def copy_demo(demo: DemoSite, work_root: Path) -> Path:
     """A working copy of a demo site under ``work_root`` (edits never touch the
     bundled files); an existing copy is opened as it is, keeping earlier edits."""

@@ -22,6 +22,14 @@ def _pct(x, digits: int = 1) -> str:
 
 
 class FindingsPane(VerticalScroll):
+    def show_advice(self, advice: list[dict]) -> None:
+        """What clearing each costly sector would do (report.recommendations)."""
+        adv = Text()
+        for item in advice:
+            adv.append("→ ", style="bold")
+            adv.append(item["text"] + "\n")
+        self.query_one("#advice", Static).update(adv)
+
     def compose(self) -> ComposeResult:
         yield Static("Assessing…", markup=False, id="verdict-box")
         yield Static("", markup=False, id="figures")
@@ -35,7 +43,7 @@ class FindingsPane(VerticalScroll):
         yield Static("", markup=False, id="assessed")
         yield Static("", markup=False, id="warnings")
 
-    def show_run(self, run: SiteRun, advice: list[dict]) -> None:
+    def show_run(self, run: SiteRun) -> None:
         s, a, w = run.site, run.assessment, run.window
         box = Text()
         box.append_text(verdict_text(a.verdict, big=True))
@@ -64,8 +72,7 @@ class FindingsPane(VerticalScroll):
         if longest:
             lines.append("Longest: ")
             lines.append(", ".join(f"{e['start'][11:19]} ({fmt_duration(e['duration_s'])})" for e in longest))
-        else:
-            lines.append("No drop-outs in this window.")
+
         self.query_one("#outage-list", Static).update(lines)
 
         if a.sectors:
@@ -82,11 +89,8 @@ class FindingsPane(VerticalScroll):
             self.query_one("#sectors", Static).update(t)
         else:
             self.query_one("#sectors", Static).update("Nothing above the minimum elevation blocks a satellite.")
-        adv = Text()
-        for item in advice:
-            adv.append("→ ", style="bold")
-            adv.append(item["text"] + "\n")
-        self.query_one("#advice", Static).update(adv)
+        self.query_one("#advice", Static).update(Text("Working out what clearing each obstruction would do…"
+                                                      if a.blocked_samples else "", style="dim"))
 
         groups = ", ".join(f"{k} {v}" for k, v in run.fleet.groups.items())
         assessed = Text()

@@ -111,10 +111,14 @@ class HorizonEditor(Vertical):
         self._refresh_all()
 
     def set_declination(self, declination_deg: float | None, note: str = "") -> None:
+        if (declination_deg, note) == (self.declination_deg, self.declination_note):
+            return  # every assessment reports it; redraw the table only when it moves
         self.declination_deg, self.declination_note = declination_deg, note
         self._refresh_all(keep_cursor=True)
 
     def set_min_elevation(self, deg: float) -> None:
+        if deg == self.min_elevation_deg:
+            return
         self.min_elevation_deg = deg
         self._refresh_preview()
 
@@ -136,8 +140,8 @@ class HorizonEditor(Vertical):
         old = table.cursor_row
         magnetic = self.profile.reference == "magnetic"
         table.clear(columns=True)
-        cols = ["#", "Compass°" if magnetic else "Bearing°"] + (["True°"] if magnetic else [])
-        table.add_columns(*cols, "Elev°", "Dist m", "Label")
+        cols = ["#", "Cmp°" if magnetic else "Az°"] + (["True°"] if magnetic else [])
+        table.add_columns(*cols, "El°", "m", "Label")
         trues = self.true_points()
         for i, (p, t) in enumerate(zip(self.profile.points, trues)):
             row = [str(i + 1), f"{p.azimuth_deg:g}"]
@@ -151,12 +155,11 @@ class HorizonEditor(Vertical):
             table.move_cursor(row=max(0, min(row, n - 1)))
         ref = self.query_one("#reference", Static)
         if magnetic:
-            dec = "declination unknown until the coordinates are valid" if self.declination_deg is None else \
-                f"declination {self.declination_deg:+.2f}° ({'E' if self.declination_deg >= 0 else 'W'}, " \
-                f"WMM2025) added to each compass bearing"
-            ref.update(f"Compass bearings (magnetic): {dec}.  m: switch to true")
+            dec = "declination not known until the coordinates are valid" if self.declination_deg is None else \
+                f"declination {self.declination_deg:+.2f}° (WMM2025) added"
+            ref.update(f"Compass bearings, {dec}.  m: true")
         else:
-            ref.update("True bearings (no declination applied).  m: switch to compass")
+            ref.update("True bearings, no declination.  m: compass")
         if self.declination_note:
             ref.update(str(ref.renderable) + f"\n{self.declination_note}")
         self.query_one("#entry-label", Label).update(

@@ -63,6 +63,17 @@ class SiteForm(VerticalScroll):
         self._loading = False
         self._check_all(post=False)
 
+    def prefill(self, key: str, text: str) -> None:
+        """Put ``text`` in one field (a new site's name and defaults)."""
+        self._loading = True
+        widget = self.query_one("#" + _dom_id(key))
+        if isinstance(widget, Select):
+            widget.value = text or CHOICES[key][0]
+        else:
+            widget.value = text
+        self._loading = False
+        self._check_all(post=False)
+
     def _text(self, key: str) -> str:
         widget = self.query_one("#" + _dom_id(key))
         return str(widget.value) if widget.value is not Select.BLANK else ""

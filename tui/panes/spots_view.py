@@ -26,6 +26,7 @@ class SpotsView(Vertical):
         Binding("r", "rank", "Rank spots"),
         Binding("g", "growth", "Tree growth"),
         Binding("u", "use_spot", "Use as mount"),
+        Binding("b", "back_to_survey_point", "Mount at survey point"),
     ]
 
     class UseSpot(Message):
@@ -34,6 +35,9 @@ class SpotsView(Vertical):
         def __init__(self, result):
             super().__init__()
             self.result = result
+
+    class UseSurveyPoint(Message):
+        """Put the mount back at the survey point, on the measured horizon."""
 
     class RankRequested(Message):
         def __init__(self, years: float):
@@ -65,6 +69,7 @@ class SpotsView(Vertical):
                     "(obstacles, mounting areas, poles; see the README) to rank where to mount.")
         else:
             text = (f"r: rank  g: tree growth ({self.years:g} years)  u or ⏎: use the selected spot as the mount"
+                    + ("  b: back to the survey point" if self.run is not None and self.run.site.mount.at else "")
                     + (f"   {extra}" if extra else ""))
         self.query_one("#spots-head", Static).update(Text(text))
         self.query_one("#spots-body").display = self.run is None or has_plan
@@ -137,6 +142,12 @@ class SpotsView(Vertical):
         self.years = GROWTH_STEPS[(i + 1) % len(GROWTH_STEPS)]
         self._head()
         self.action_rank()
+
+    def action_back_to_survey_point(self) -> None:
+        if self.run is not None and self.run.site.mount.at is None:
+            self.app.notify("the mount is already at the survey point", timeout=3)
+            return
+        self.post_message(self.UseSurveyPoint())
 
     def action_use_spot(self) -> None:
         sel = self._selected()

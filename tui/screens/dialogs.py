@@ -9,7 +9,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen
-from textual.widgets import Button, Input, Label, RadioButton, RadioSet, Static
+from textual.widgets import Button, Input, Label, Select, Static
 
 from survey.errors import InputError
 from survey.report import format_for
@@ -177,9 +177,10 @@ class ExportReport(_AnswerDialog):
             yield Input(str(self.suggested), id="answer")
             yield Static(".pdf to print or hand over, .html for a phone, .json to keep or remake it",
                          markup=False, id="hint", classes="hint")
-            with RadioSet(id="paper"):
-                yield RadioButton("A4", value=self.paper == "a4", id="paper-a4")
-                yield RadioButton("US Letter", value=self.paper == "letter", id="paper-letter")
+            with Horizontal(classes="field-row"):
+                yield Label("Paper (PDF) ", classes="paper-label")
+                yield Select([("A4 (ISO 216)", "a4"), ("US Letter", "letter")], value=self.paper,
+                             allow_blank=False, compact=True, id="paper")
             with Horizontal(classes="buttons"):
                 yield Button("Write", variant="primary", id="ok")
                 yield Button("Cancel", id="cancel")
@@ -188,6 +189,4 @@ class ExportReport(_AnswerDialog):
         return check_report_path(text)
 
     def answer(self, text: str):
-        pressed = self.query_one("#paper", RadioSet).pressed_button
-        paper = "letter" if pressed is not None and pressed.id == "paper-letter" else "a4"
-        return Path(text).expanduser(), paper
+        return Path(text).expanduser(), str(self.query_one("#paper", Select).value)
