@@ -337,3 +337,72 @@ def test_a_bundled_demo_opens_as_a_copy(tmp_path):
     app = drive(scenario())
     assert bundled.read_bytes() == before
     assert load_site(app.session.path).horizon.points[-1].label == "new shed"
+
+
+class SlowAssessor(Assessor):
+    """The real assessor, after a slow start that reports progress and can be
+    cancelled, as a long propagation would (so the bar and Esc can be seen)."""
+
+    def run(self, site, progress=None, cancelled=lambda: False):
+        import time
+
+        for k in range(40):
+            if cancelled():
+                raise Cancelled()
+            if progress is not None:
+                progress(k / 40)
+            time.sleep(0.05)
+        return super().run(site, progress, cancelled)
+
+
+def test_progress_shows_and_escape_cancels(tmp_path):
+    site_file = demo_copy(tmp_path)
+
+    async def scenario():
+        app = LeositeApp(site_file, SlowAssessor(hours=HOURS), work_root=tmp_path / "work")
+        async with app.run_test(size=(100, 30)) as pilot:
+            bar = None
+            await until(pilot, lambda: app.workspace is not None and app.workspace.query("#progress"))
+            bar = app.workspace.query_one("#progress")
+            await until(pilot, lambda: bar.display, what="the progress bar")
+            assert "computing" in status_text(app)
+            await pilot.press("escape")
+            await pilot.pause(0.3)
+            assert not bar.display and "cancelled" in status_text(app)
+            assert app.latest is None  # nothing half-computed is shown
+            await pilot.press("ctrl+g")  # run it again, to the end this time
+            await until(pilot, lambda: app.latest is not None, what="the assessment")
+            assert "MARGINAL" in status_text(app)
+            await pilot.press("ctrl+q")
+
+    drive(scenario())
+
+
+def test_unreadable_satellite_file_keeps_the_current_fleet(tmp_path):
+    site_file = demo_copy(tmp_path)
+    bad = tmp_path / "broken.tle"
+    bad.write_text("SAT A\n1 00001U 26001A   26152.00000000  .00000000  00000-0  00000-0 0  9990\n"
+                   "2 00001  53.0000 100.0000 0001000  90.0000 270.0000 15.0000000000001\n", encoding="utf-8")
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(100, 30)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            fleet = app.latest.fleet
+            titles = [c.title for c in app.get_system_commands(app.screen)]
+            for title in ("Write report", "Safety note", "Import horizon CSV", "Load satellites",
+                          "Rank mounting spots", "Save site"):
+                assert title in titles  # the command palette lists the actions
+            app.action_load_satellites()
+            await pilot.pause()
+            app.screen.query_one("#answer").value = str(bad)
+            await pilot.press("enter")
+            await pilot.pause()
+            notes = [n.message for n in app._notifications]
+            assert any("broken.tle" in m and "checksum" in m for m in notes), notes
+            assert isinstance(app.screen, Workspace)
+            app.request_assessment()
+            await until(pilot, lambda: app.latest.fleet is fleet, what="re-assessment")
+            await pilot.press("ctrl+q")
+
+    drive(scenario())
