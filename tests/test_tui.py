@@ -406,3 +406,20 @@ def test_unreadable_satellite_file_keeps_the_current_fleet(tmp_path):
             await pilot.press("ctrl+q")
 
     drive(scenario())
+
+
+def test_form_fields_use_the_site_readers_rules():
+    """tui.fields: the reason at a field is the site reader's own; numbers may use
+    a decimal comma; coordinates may be typed as read off a GPS."""
+    from tui.fields import parse_field
+
+    assert parse_field("mount.height_m", "6,5")[0] == 6.5
+    assert parse_field("mount.height_m", "-2")[1] == "-2.0 is outside 0.0 to 500.0"
+    assert parse_field("site.latitude", "95")[1]
+    assert parse_field("site.name", "")[1] == "required"
+    assert parse_field("terminal.scan_half_angle_deg", "")[:2] == (None, None)  # blank: no cone
+    assert parse_field("terminal.scan_half_angle_deg", "0")[1]  # must be greater than 0
+    value, problem, note = parse_field("site.longitude", "72 38 29.4 W")
+    assert problem is None and value == pytest.approx(-(72 + 38 / 60 + 29.4 / 3600))  # worked by hand
+    assert "72°38′29.4″W" in note
+    assert parse_field("survey.date", "yesterday")[1].startswith("expected an ISO 8601")

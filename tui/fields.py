@@ -83,8 +83,8 @@ def parse_field(key: str, text: str):
             return None, str(exc), ""
         note = f"= {value:.6f}°  ({format_dms(value, spec.kind)})"
     elif spec.kind in ("number", "optional"):
-        try:
-            value = float(text.replace(",", ".")) if text.count(",") == 1 and "." not in text else float(text)
+        try:  # a decimal comma (6,5) is read as a decimal point
+            value = float(text.replace(",", ".", 1) if "." not in text else text)
         except ValueError:
             return None, f"expected a number, got {text!r}", ""
     elif spec.kind == "choice":

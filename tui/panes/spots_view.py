@@ -88,12 +88,12 @@ class SpotsView(Vertical):
         self.run, self.ranking = run, ranking
         table = self.query_one("#ranking", DataTable)
         table.clear(columns=True)
-        table.add_columns("Spot", "Kind", "E m", "N m", "H m", "Blocked", "Interr.")
+        table.add_columns("Spot", "Blocked", "H m", "Interr.", "Kind", "E m", "N m")  # what matters first
         self.rows = ranking.best_of_each()
         for r in self.rows:
             c = r.candidate
-            table.add_row(Text(c.name), c.kind, f"{c.east_m:.1f}", f"{c.north_m:.1f}", f"{c.height_m:.2f}",
-                          _pct(r.blocked_fraction), _pct(r.interruption))
+            table.add_row(Text(c.name), _pct(r.blocked_fraction), f"{c.height_m:.2f}", _pct(r.interruption),
+                          c.kind, f"{c.east_m:.1f}", f"{c.north_m:.1f}")
         sp = ranking.survey_point
         notes = [f"Survey point ({sp['height_m']:g} m, measured horizon): blocked {_pct(sp['blocked_fraction'])}."]
         for p in ranking.poles:

@@ -25,8 +25,10 @@ class StatusLine(Widget):
         if self.state:
             right.append(f" {self.state} ", style="reverse" if self.state.startswith(("stale", "error")) else "bold")
         if self.saved:
+            narrow = width < 100 and self.saved.startswith("saved ")
+            saved = "saved" if narrow else self.saved  # the time only where there is room
             right.append("  ")
-            right.append(self.saved, style="bold" if self.saved.startswith(("unsaved", "not saved")) else "dim")
+            right.append(saved, style="bold" if saved.startswith(("unsaved", "not saved")) else "dim")
         left = Text()
         if self.verdict:
             left.append_text(verdict_text(self.verdict))
