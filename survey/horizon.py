@@ -189,15 +189,27 @@ def _check_point(az, el, dist, label, where, problems: Problems) -> HorizonPoint
     return HorizonPoint(float(az) % 360.0, float(el), None if dist is None else float(dist), label)
 
 
+def _without_comment(line: str) -> str:
+    """``line`` up to a ``#`` that stands outside double quotes (so a quoted
+    label such as "oak #2" keeps its mark)."""
+    quoted = False
+    for i, ch in enumerate(line):
+        if ch == '"':
+            quoted = not quoted
+        elif ch == "#" and not quoted:
+            return line[:i]
+    return line
+
+
 def read_horizon_csv(path: str | Path) -> tuple[HorizonPoint, ...]:
     """Read a horizon CSV: header ``azimuth_deg,elevation_deg`` with optional
-    ``distance_m`` and ``label`` columns; ``#`` starts a comment."""
+    ``distance_m`` and ``label`` columns; ``#`` outside quotes starts a comment."""
     path = Path(path)
     text = read_text(path, "horizon CSV")
     problems = Problems(str(path))
     lines = []
     for n, line in enumerate(text.splitlines(), start=1):
-        body = line.split("#", 1)[0].strip()
+        body = _without_comment(line).strip()
         if body:
             lines.append((n, body))
     if not lines:

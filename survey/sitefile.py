@@ -451,9 +451,10 @@ def _breaks_a_line(ch: str) -> bool:
 def horizon_csv(points, preamble: str = "", where: str = "horizon CSV") -> str:
     """The horizon CSV that ``horizon.read_horizon_csv`` reads: header
     ``azimuth_deg,elevation_deg`` with ``distance_m`` and ``label`` columns when
-    any point has one; labels quoted when they need it.  The reader strips spaces
-    round values, so labels are written stripped; a label holding ``#`` (the
-    reader's comment mark) or a line break cannot be written (InputError)."""
+    any point has one; labels quoted when they need it (a ``#``, the reader's
+    comment mark, is quoted too).  The reader strips spaces round values, so
+    labels are written stripped; a label holding a line break cannot be written
+    (InputError)."""
     points = list(points)
     with_dist = any(p.distance_m is not None for p in points)
     with_label = any(p.label.strip() for p in points)
@@ -462,14 +463,17 @@ def horizon_csv(points, preamble: str = "", where: str = "horizon CSV") -> str:
     writer.writerow(["azimuth_deg", "elevation_deg"] + ["distance_m"] * with_dist + ["label"] * with_label)
     for i, p in enumerate(points):
         label = p.label.strip()
-        bad = "#" if "#" in label else next((c for c in label if _breaks_a_line(c)), None)
+        bad = next((c for c in label if _breaks_a_line(c)), None)
         if bad is not None:
-            what = "'#' (it starts a comment there)" if bad == "#" else f"a line break (U+{ord(bad):04X})"
             raise InputError(f"{where}: horizon point {i + 1} ({p.azimuth_deg:g} deg): its label "
-                             f"{p.label!r} holds {what}, which a horizon CSV cannot hold: change the label")
+                             f"{p.label!r} holds a line break (U+{ord(bad):04X}), which a horizon CSV "
+                             "cannot hold: change the label")
         row = [_csv_number(p.azimuth_deg), _csv_number(p.elevation_deg)]
         if with_dist:
             row.append("" if p.distance_m is None else _csv_number(p.distance_m))
+        if with_label and "#" in label:  # quoted, so the reader does not take it for a comment
+            buf.write(",".join(row) + ',"' + label.replace('"', '""') + '"\n')
+            continue
         if with_label:
             row.append(label)
         writer.writerow(row)

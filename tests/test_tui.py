@@ -423,3 +423,25 @@ def test_form_fields_use_the_site_readers_rules():
     assert problem is None and value == pytest.approx(-(72 + 38 / 60 + 29.4 / 3600))  # worked by hand
     assert "72°38′29.4″W" in note
     assert parse_field("survey.date", "yesterday")[1].startswith("expected an ISO 8601")
+
+
+def test_a_horizon_kept_in_a_csv_is_saved_there(tmp_path):
+    site_file = demo_copy(tmp_path, "mill-lane-terrace")
+    toml_before = site_file.read_text("utf-8")
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(100, 30)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            await pilot.press("f3")
+            await pilot.press("a")
+            await type_text(pilot, "350 18 30 oak #2")
+            await pilot.press("enter")
+            await until(pilot, lambda: not app.session.dirty, what="autosave")
+            await pilot.press("ctrl+q")
+
+    drive(scenario())
+    assert site_file.read_text("utf-8") == toml_before  # still file = "horizon.csv", nothing else changed
+    csv_text = (site_file.parent / "horizon.csv").read_text("utf-8")
+    assert csv_text.startswith("# Mill Lane terrace")  # the file's own comments kept
+    assert load_site(site_file).horizon.points[-1].label == "oak #2"
