@@ -72,8 +72,9 @@ class FindingsPane(VerticalScroll):
         if longest:
             lines.append("Longest: ")
             lines.append(", ".join(f"{e['start'][11:19]} ({fmt_duration(e['duration_s'])})" for e in longest))
-
-        self.query_one("#outage-list", Static).update(lines)
+        outage_list = self.query_one("#outage-list", Static)
+        outage_list.update(lines)
+        outage_list.display = bool(longest)
 
         if a.sectors:
             t = Table(box=None, padding=(0, 1), show_edge=False, header_style="bold")
