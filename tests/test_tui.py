@@ -140,6 +140,34 @@ def test_whole_workflow_open_edit_export_quit(tmp_path):
     assert saved.plan is not None  # the plan file reference survived the save
 
 
+def test_command_line_overrides_reach_the_app_and_the_report(tmp_path):
+    """leosite ui SITE --min-elevation 40: assessed at 40 degrees, the site file
+    keeps its own 25, and the report can still be written."""
+    site_file = demo_copy(tmp_path)
+    before = site_file.read_bytes()
+    report = tmp_path / "r.json"
+
+    async def scenario():
+        app = LeositeApp(site_file, Assessor(hours=HOURS, min_elevation_deg=40.0), work_root=tmp_path / "w")
+        async with app.run_test(size=(100, 30)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            assert app.latest.site.terminal.min_elevation_deg == 40.0
+            assert float(app.latest.tracks.el_deg.min()) >= 40.0
+            app.session.safety_seen = True
+            await pilot.press("ctrl+r")
+            assert isinstance(app.screen, ExportReport)
+            app.screen.query_one("#answer").value = str(report)
+            await pilot.press("enter")
+            await until(pilot, lambda: report.exists(), what="the report")
+            await pilot.press("ctrl+q")
+
+    drive(scenario())
+    import json
+
+    assert json.loads(report.read_text("utf-8"))["result"]["terminal"]["min_elevation_deg"] == 40.0
+    assert site_file.read_bytes() == before
+
+
 def test_invalid_latitude_is_flagged_and_never_reaches_the_engine(tmp_path):
     site_file = demo_copy(tmp_path)
     before = site_file.read_bytes()

@@ -59,6 +59,7 @@ class LeositeApp(App):
         self.work_root = Path(work_root) if work_root is not None else Path.cwd() / "leosite-sites"
         self.session: Session | None = None
         self.latest = None  # the last SiteRun shown
+        self._assessed = None  # the site it was made from
         self.advice: list[dict] = []
         self._save_timer = None
         self._form_timer = None
@@ -109,6 +110,7 @@ class LeositeApp(App):
         self.session = session
         self._new_name = name
         self.latest = None  # the last SiteRun shown
+        self._assessed = None  # the site it was made from
         self.advice = []
         self._form_problem = None
         ws = Workspace()
@@ -251,7 +253,7 @@ class LeositeApp(App):
         try:
             run = self.assessor.run(site, progress, cancelled=lambda: worker.is_cancelled)
             if not worker.is_cancelled:  # the figures first; the what-if advice follows
-                self.call_from_thread(self._assess_done, generation, run, None)
+                self.call_from_thread(self._assess_done, generation, run, site)
             advice = recommendations(run)
         except Cancelled:
             return
@@ -289,10 +291,11 @@ class LeositeApp(App):
         self.advice = advice
         self.workspace.query_one(FindingsPane).show_advice(advice)
 
-    def _assess_done(self, generation: int, run, advice) -> None:
+    def _assess_done(self, generation: int, run, site) -> None:
         if generation != self._generation or self.workspace is None:
             return
         self.latest, self.advice = run, []
+        self._assessed = site  # the site as edited (the run's may carry a --min-elevation override)
         self._hide_progress()
         a = run.assessment
         self._status(verdict=a.verdict, blocked=a.blocked_fraction, interruption=a.interruption,
@@ -510,7 +513,7 @@ class LeositeApp(App):
         if self._form_problem:
             self.notify(f"Fix the site first: {self._form_problem}", severity="warning")
             return
-        if self.latest is None or self.latest.site != self.session.site:
+        if self.latest is None or self._assessed != self.session.site:
             self.notify("the findings are not up to date yet: wait for the assessment", severity="warning")
             return
         if not self.session.safety_seen:
