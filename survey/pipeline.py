@@ -86,14 +86,26 @@ def derived_mask(site: Site, declination_deg: float) -> HorizonMask:
     obstacles and the measured points with a distance (seen from
     ``site.horizon_height_m`` at the survey point), raised to the far points'
     mask; whole degrees, the same mask as spots.SpotEvaluator.mask_for."""
-    from .plan import AZIMUTHS_DEG, derived_horizons
+    from .plan import AZIMUTHS_DEG, derived_horizon_labels, derived_horizons
     from .spots import site_scene  # spots imports assess, which imports site: keep it lazy
 
     east, north = site.mount.at
     surveyed = replace(site, mount=replace(site.mount, height_m=site.horizon_height_m))
     scene, far_deg = site_scene(surveyed, declination_deg)
-    el = np.maximum(derived_horizons(scene, [east], [north], [site.mount.height_m])[0], far_deg)
-    return HorizonMask(AZIMUTHS_DEG, el)
+    derived = derived_horizons(scene, [east], [north], [site.mount.height_m])[0]
+    el = np.maximum(derived, far_deg)
+    # Each degree named after what sets it: the obstacle, or the nearest far point.
+    near = derived_horizon_labels(scene, east, north, site.mount.height_m)
+    far_points = [p for p in site.horizon.to_true(declination_deg).points if p.distance_m is None]
+    labels = tuple(near[k] if derived[k] >= far_deg[k] else _nearest_label(far_points, k) for k in range(360))
+    return HorizonMask(AZIMUTHS_DEG, el, labels)
+
+
+def _nearest_label(points, azimuth_deg: float) -> str:
+    if not points:
+        return ""
+    gap = [abs((p.azimuth_deg - azimuth_deg + 180.0) % 360.0 - 180.0) for p in points]
+    return points[gap.index(min(gap))].label
 
 
 def mount_warnings(site: Site) -> list[str]:

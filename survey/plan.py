@@ -639,13 +639,17 @@ class Scene:
     def __init__(self, plan: Plan):
         self.plan = plan
         P, Q, hP, hQ = [], [], [], []
+        self.panel_names: list[str] = []  # the obstacle each panel belongs to (labels sectors)
+        owner = [""]
 
         def panel(a, b, ha, hb):
             if a != b:
                 P.append(a), Q.append(b), hP.append(ha), hQ.append(hb)
+                self.panel_names.append(owner[0])
 
         self.solids = []  # (shapely polygon, roof height function)
         for b in plan.buildings:
+            owner[0] = b.name
             roof = _roof_function(b)
             ring = list(b.footprint)
             for a, c in zip(ring, ring[1:] + ring[:1]):
@@ -664,14 +668,17 @@ class Scene:
                     panel(seg[0], seg[1], b.ridge_height_m, b.ridge_height_m)
             self.solids.append((poly, roof))
         for p in plan.prisms:
+            owner[0] = p.name
             ring = list(p.polygon)
             for a, c in zip(ring, ring[1:] + ring[:1]):
                 panel(a, c, p.height_m, p.height_m)
             self.solids.append((shapely.Polygon(p.polygon), _FlatRoof(p.height_m)))
         for w in plan.walls:
+            owner[0] = w.name
             for a, c in zip(w.line, w.line[1:]):
                 panel(a, c, w.height_m, w.height_m)
         for s in plan.skylines:
+            owner[0] = s.name
             panel(s.start, s.end, s.start_height_m, s.end_height_m)
         self.P = np.array(P, dtype=np.float64).reshape(-1, 2)
         self.Q = np.array(Q, dtype=np.float64).reshape(-1, 2)
@@ -824,7 +831,7 @@ def _panel_hits(sc: Scene, ox, oy, oz):
         eq = np.degrees(np.arctan2(hp + dh - z, sq))
         el = np.where(edge_on, np.maximum(ep, eq), el)
         s = np.where(edge_on, np.where(ep >= eq, sp, sq), s)
-    return I[rep], k, el, s, engulfed
+    return I[rep], k, el, s, engulfed, J[rep]
 
 
 def _tree_hits(sc: Scene, ox, oy, oz, years: float):
@@ -846,7 +853,7 @@ def _tree_hits(sc: Scene, ox, oy, oz, years: float):
     d, r = d[rep], r[rep]
     t, p = d * np.cos(theta), d * np.sin(theta)
     s = t - np.sqrt(np.clip(r * r - p * p, 0.0, None))
-    return I[rep], k, np.degrees(np.arctan2(h[rep] - z[rep], s)), s, engulfed
+    return I[rep], k, np.degrees(np.arctan2(h[rep] - z[rep], s)), s, engulfed, J[rep]
 
 
 def _points(east_m, north_m, height_m):
@@ -909,6 +916,40 @@ def derived_horizon(plan: Plan | Scene, east_m: float, north_m: float, height_m:
     """The derived horizon at one point: 360 elevations (degrees, 0..90) at true
     azimuths 0..359 (see derived_horizons)."""
     return derived_horizons(plan, [east_m], [north_m], [height_m], years)[0]
+
+
+def derived_horizon_labels(plan: Plan | Scene, east_m: float, north_m: float, height_m: float,
+                           years: float = 0.0) -> tuple[str, ...]:
+    """The name of the obstacle that sets the derived horizon at each whole
+    azimuth 0..359 seen from one point ("" where the sky is clear): so the
+    sectors of a derived horizon say which building or tree costs the most."""
+    sc = compile_plan(plan)
+    e, n, z = _points([east_m], [north_m], [height_m])
+    names = np.array([""] * 360, dtype=object)
+    best = np.zeros(360)
+    if sc.hP.size:
+        _, k, el, _, _, j = _panel_hits(sc, e, n, z)
+        _take_highest(names, best, k, el, np.array(sc.panel_names + [""], dtype=object)[j])
+    if sc.tree_r.size:
+        _, k, el, _, _, j = _tree_hits(sc, e, n, z, years)
+        _take_highest(names, best, k, el, np.array([t.name for t in sc.plan.trees] + [""], dtype=object)[j])
+    inside = sc.inside(e, n, z, years)[0]
+    if inside:
+        names[:] = inside[0]
+    return tuple(str(x) for x in names)
+
+
+def _take_highest(names, best, k, el, who) -> None:
+    """Per azimuth k, keep the name of the highest hit above ``best`` (in place)."""
+    if not k.size:
+        return
+    order = np.lexsort((el, k))  # by azimuth, then elevation: each azimuth's highest hit last
+    k, el, who = k[order], el[order], who[order]
+    last = np.append(k[1:] != k[:-1], True)
+    k, el, who = k[last], el[last], who[last]
+    higher = el > best[k]
+    names[k[higher]] = who[higher]
+    best[k[higher]] = el[higher]
 
 
 def derived_horizon_points(plan: Plan | Scene, east_m: float, north_m: float, height_m: float,

@@ -100,6 +100,15 @@ def test_hand_worked_derived_horizon_from_a_wall(write_site):
     assert run.mask.elevation_at(0.0) == pytest.approx(math.degrees(math.atan(4 / 8)), abs=1e-9)
     assert run.mask.elevation_at(180.0) == 0.0
     assert not any("far points only" in w for w in run.warnings)
+    assert run.mask.labels[0] == "wall" and run.mask.labels[180] == ""  # the sectors name what blocks
+
+
+def test_a_placed_mount_names_its_obstructions(farm):
+    site, _, ranking = farm
+    best = ranking.best.candidate
+    run = run_site(placed(site, best.east_m, best.north_m, best.height_m), hours=HOURS)
+    assert run.assessment.sectors and all(sec.labels for sec in run.assessment.sectors)
+    assert {"alders", "tall alder"} & set(run.assessment.sectors[0].labels)  # the demo's costliest, by name
 
 
 def test_no_plan_and_no_distance_warns_the_horizon_is_the_far_points(write_site):

@@ -25,6 +25,7 @@ from survey.plan import (
     Wall,
     compile_plan,
     derived_horizon,
+    derived_horizon_labels,
     derived_horizon_points,
     derived_horizons,
     load_plan_geojson,
@@ -61,6 +62,21 @@ def test_flat_building_due_north_and_its_corners():
     assert h[342] == pytest.approx(h[18], abs=1e-9)
     assert h[19] == 0.0 and h[341] == 0.0  # beyond the corners' extent: clear
     assert h[90] == 0.0 and h[270] == 0.0 and h[180] == 0.0  # nothing due east, west or south
+
+
+def test_each_degree_is_named_after_the_obstacle_that_sets_it():
+    """The block due north (+-18.43 deg, as worked above) and the spruce due south
+    (+-8.63 deg) name their degrees; a taller tower behind the block, seen over
+    it, takes the name where it rises higher."""
+    tower = Building("tower", ((-1, 30), (1, 30), (1, 32), (-1, 32)), 40.0)  # atan(38/30) = 51.7 deg
+    plan = Plan(buildings=(BLOCK, tower), trees=(SPRUCE,))
+    names = derived_horizon_labels(plan, 0, 0, 2.0)
+    h = derived_horizon(plan, 0, 0, 2.0)
+    assert h[0] == pytest.approx(deg(atan(38 / 30)), abs=1e-9) and names[0] == "tower"
+    assert names[18] == names[342] == "block"  # beside the tower (atan(1/30) = 1.9 deg wide)
+    assert names[180] == names[188] == names[172] == "spruce"
+    assert names[90] == names[270] == names[19] == names[189] == ""  # clear sky has no name
+    assert all((names[k] == "") == (h[k] == 0.0) for k in range(360))
 
 
 def test_tree_due_south_and_its_width():
