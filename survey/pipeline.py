@@ -178,7 +178,7 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
     notes = []
     if fleet.illustrative:
         notes.append("satellites are leosite's illustrative shells, not a real constellation: "
-                     "pass --tle or --shells for real elements")
+                     "use real element sets (TLE or OMM: --tle, or Load satellites in the text UI)")
     notes.extend(fleet.age_warnings(window.start))
     if site.horizon.reference == "magnetic":  # the declination only matters for compass bearings
         notes.extend(dec.warnings)

@@ -441,7 +441,9 @@ def test_form_fields_use_the_site_readers_rules():
     a decimal comma; coordinates may be typed as read off a GPS."""
     from tui.fields import parse_field
 
-    assert parse_field("mount.height_m", "6,5")[0] == 6.5
+    assert parse_field("mount.height_m", "6,5")[1].startswith("use a point")  # 6.5 or 65? ask
+    assert parse_field("site.elevation_m", "1,200")[1].startswith("use a point")  # not 1.2
+    assert parse_field("mount.height_m", "6.5")[0] == 6.5
     assert parse_field("mount.height_m", "-2")[1] == "-2.0 is outside 0.0 to 500.0"
     assert parse_field("site.latitude", "95")[1]
     assert parse_field("site.name", "")[1] == "required"
@@ -473,3 +475,74 @@ def test_a_horizon_kept_in_a_csv_is_saved_there(tmp_path):
     csv_text = (site_file.parent / "horizon.csv").read_text("utf-8")
     assert csv_text.startswith("# Mill Lane terrace")  # the file's own comments kept
     assert load_site(site_file).horizon.points[-1].label == "oak #2"
+
+
+def test_opening_and_quitting_leaves_the_file_byte_for_byte(tmp_path):
+    """A site nobody edited is not rewritten: exact numbers, comments and all."""
+    site_file = demo_copy(tmp_path)
+    text = site_file.read_text("utf-8").replace("latitude = 45.3182",
+                                                "latitude = 45.31823456   # from a phone, 3 m accuracy")
+    site_file.write_text(text, encoding="utf-8")
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(100, 30)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            await pilot.press("f2")
+            await pilot.pause(2.0)  # past the form's settle and the autosave delay
+            assert not app.session.dirty
+            await pilot.press("ctrl+q")
+
+    drive(scenario())
+    assert site_file.read_text("utf-8") == text
+
+
+def test_escape_on_the_safety_note_writes_no_report(tmp_path):
+    site_file = demo_copy(tmp_path)
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(100, 30)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            await pilot.press("ctrl+r")
+            assert isinstance(app.screen, SafetyNote)
+            await pilot.press("escape")
+            assert isinstance(app.screen, Workspace) and not app.session.safety_seen
+            await pilot.press("ctrl+r")
+            assert isinstance(app.screen, SafetyNote)  # still shown before the first report
+            await pilot.press("enter")
+            assert isinstance(app.screen, ExportReport)
+            await pilot.press("escape")
+            await pilot.press("ctrl+q")
+
+    drive(scenario())
+    assert not list(site_file.parent.glob("*report*"))
+
+
+def test_pasted_lines_become_points_and_bad_bearings_are_refused(tmp_path):
+    from textual import events
+
+    site_file = demo_copy(tmp_path, "tussock-ridge-croft")
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(100, 30)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            n = len(app.session.site.horizon.points)
+            await pilot.press("f3")
+            await pilot.press("a")
+            entry = app.workspace.query_one("#entry")
+            entry.post_message(events.Paste("10 5 fence\n20\t7\nabc\n30 9 40 shed\n"))
+            await pilot.pause(0.3)
+            points = app.workspace.query_one(HorizonEditor).profile.points
+            assert [(p.azimuth_deg, p.label) for p in points[n:]] == [(10, "fence"), (20, ""), (30, "shed")]
+            assert "line 3" in str(app.workspace.query_one("#entry-msg").render())
+            assert entry.value == ""
+            await type_text(pilot, "400 20")
+            await pilot.pause(0.1)
+            assert "outside 0 to 360" in str(app.workspace.query_one("#entry-msg").render())
+            await pilot.press("enter")
+            assert len(app.workspace.query_one(HorizonEditor).profile.points) == n + 3  # refused, not wrapped
+            await pilot.press("ctrl+q")
+
+    drive(scenario())

@@ -31,7 +31,7 @@ from .panes.horizon_editor import HorizonEditor
 from .panes.site_form import SiteForm
 from .panes.sky_view import SkyView
 from .panes.spots_view import SpotsView
-from .screens.dialogs import AskChoice, AskText, ExportReport, SafetyNote
+from .screens.dialogs import AskChoice, AskText, ExportReport, SafetyNote, check_site_path, site_file_in
 from .screens.start import StartScreen
 from .screens.workspace import Workspace
 from .session import Assessor, Cancelled, Session, bundled_demo, copy_demo, fleet_choice_for, slug
@@ -155,9 +155,12 @@ class LeositeApp(App):
         """Typing in a field: the field is checked at once (by the form); the site
         follows once typing pauses, so half-typed numbers ("9" on the way to
         "95.5") are never assessed or saved."""
-        self._form_problem = None if event.values is not None else self.workspace.query_one(SiteForm).first_problem()
+        form = self.workspace.query_one(SiteForm)
+        self._form_problem = None if event.values is not None else form.first_problem()
+        self._status(site_name=form.values.get("site.name") or "")  # the name as typed, even before it is valid
         if self._form_problem:
-            self._status(state=f"stale: {self._form_problem}", saved="unsaved")
+            self._status(state=f"stale: fix {self.workspace.query_one(SiteForm).first_problem_label()}",
+                         saved="unsaved")
         if self._form_timer is not None:
             self._form_timer.stop()
         self._form_timer = self.set_timer(FORM_SETTLE_S, self._form_settled)
@@ -175,7 +178,7 @@ class LeositeApp(App):
         ws = self.workspace
         form = ws.query_one(SiteForm)
         if form.problems:
-            self._status(state=f"stale: {form.first_problem()}", saved="unsaved")
+            self._status(state=f"stale: fix {form.first_problem_label()}", saved="unsaved")
             return
         values = form.values  # as the fields read now (a chosen spot reloads them)
         editor = ws.query_one(HorizonEditor)
@@ -438,9 +441,10 @@ class LeositeApp(App):
     def action_open_site(self) -> None:
         def answered(text) -> None:
             if text:
-                self.open_site(Path(text).expanduser())
+                self.open_site(site_file_in(Path(text).expanduser()))
 
-        self.push_screen(AskText("Open a site file", str(Path.cwd()) + "/", "A site.toml file."), answered)
+        self.push_screen(AskText("Open a site file", "", f"A site.toml file, or its folder (from {Path.cwd()}).",
+                                 check_site_path, placeholder="path/to/site.toml"), answered)
 
     def action_import_horizon(self) -> None:
         if self.session is None:
@@ -517,9 +521,10 @@ class LeositeApp(App):
             self.notify("the findings are not up to date yet: wait for the assessment", severity="warning")
             return
         if not self.session.safety_seen:
-            def seen(_) -> None:
-                self.session.safety_seen = True
-                self._ask_report_path()
+            def seen(understood: bool) -> None:
+                if understood:
+                    self.session.safety_seen = True
+                    self._ask_report_path()
 
             self.push_screen(SafetyNote(self.session.site.mount.kind, before_export=True), seen)
             return
@@ -530,9 +535,17 @@ class LeositeApp(App):
         suggested = last or self.session.path.parent / f"{slug(self.session.site.name)}-report.pdf"
 
         def answered(answer) -> None:
-            if answer is not None:
-                path, paper = answer
+            if answer is None:
+                return
+            path, paper = answer
+            if not path.exists() or path.resolve() in self.session.reports:
                 self._write_report(self.latest, path, paper)
+                return
+            self.push_screen(AskChoice(f"{path.name} already exists", [("keep", "Keep it, pick another name"),
+                                                                      ("replace", "Replace it")],
+                                       str(path)),
+                             lambda a: self._write_report(self.latest, path, paper) if a == "replace"
+                             else self._ask_report_path())
 
         self.push_screen(ExportReport(suggested), answered)
 
@@ -586,6 +599,9 @@ class LeositeApp(App):
     def action_toggle_daylight(self) -> None:
         """A light, high-contrast theme reads better in sunlight."""
         self.theme = "textual-light" if self.theme != "textual-light" else "textual-dark"
+        if self.workspace is not None and self.latest is not None:  # the verdict's hue follows the theme
+            self.workspace.query_one(FindingsPane).show_run(self.latest)
+            self.workspace.query_one(FindingsPane).show_advice(self.advice)
 
     # ---------------------------------------------------------------- palette
     def get_system_commands(self, screen):

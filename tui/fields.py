@@ -83,8 +83,10 @@ def parse_field(key: str, text: str):
             return None, str(exc), ""
         note = f"= {value:.6f}°  ({format_dms(value, spec.kind)})"
     elif spec.kind in ("number", "optional"):
-        try:  # a decimal comma (6,5) is read as a decimal point
-            value = float(text.replace(",", ".", 1) if "." not in text else text)
+        if "," in text:  # 6,5 or 1,200? Too easy to misread either way: ask for a point.
+            return None, f"use a point for decimals and no thousands separator, e.g. {text.replace(',', '.')}", ""
+        try:
+            value = float(text)
         except ValueError:
             return None, f"expected a number, got {text!r}", ""
     elif spec.kind == "choice":
@@ -99,13 +101,15 @@ def field_values(site: Site) -> dict[str, str]:
     """The form's text for each field of ``site``."""
     t = site.terminal
 
-    def num(x) -> str:
-        return "" if x is None else f"{x:g}" if abs(x) >= 1e-4 or x == 0 else repr(x)
+    def num(x) -> str:  # exact: the text reads back as the same float, so opening changes nothing
+        if x is None:
+            return ""
+        return str(int(x)) if float(x).is_integer() and abs(x) < 1e15 else repr(float(x))
 
     return {
         "site.name": site.name,
-        "site.latitude": f"{site.latitude_deg:.6f}".rstrip("0").rstrip("."),
-        "site.longitude": f"{site.longitude_deg:.6f}".rstrip("0").rstrip("."),
+        "site.latitude": num(site.latitude_deg),
+        "site.longitude": num(site.longitude_deg),
         "site.elevation_m": num(site.elevation_m),
         "mount.kind": site.mount.kind,
         "mount.height_m": num(site.mount.height_m),
@@ -129,8 +133,10 @@ def new_site_defaults(name: str = "", today: datetime | None = None) -> dict[str
 def apply_fields(values: dict, base: Site | None, path: Path) -> Site:
     """A Site from parsed field values over ``base`` (its horizon, plan, window,
     criteria and schedule are kept); ``base`` None starts from the defaults."""
-    if base is None:
-        base = Site(values.get("site.name") or path.parent.name, 0.0, 0.0, path=path)
+    if base is None:  # a new site: its window is pinned to today, so the file reproduces its figures
+        today = datetime.now(timezone.utc).replace(hour=0, minute=0, second=0, microsecond=0)
+        base = Site(values.get("site.name") or path.parent.name, 0.0, 0.0, path=path,
+                    window={"start": today, "hours": 24.0, "step_s": 15.0})
 
     def get(key, default):
         v = values.get(key)

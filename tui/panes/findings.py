@@ -46,7 +46,7 @@ class FindingsPane(VerticalScroll):
     def show_run(self, run: SiteRun) -> None:
         s, a, w = run.site, run.assessment, run.window
         box = Text()
-        box.append_text(verdict_text(a.verdict, big=True))
+        box.append_text(verdict_text(a.verdict, big=True, light=not self.app.current_theme.dark))
         box.append("\n" + a.verdict_reason)
         verdict = self.query_one("#verdict-box", Static)
         verdict.update(box)

@@ -42,12 +42,30 @@ def parse_entry(text: str) -> tuple[HorizonPoint | None, str | None]:
     label = rest.strip()
     if len(numbers) < 2:
         return None, "expected a bearing and an elevation in degrees first, e.g. 135 36"
+    if not 0.0 <= numbers[0] <= 360.0:  # a typo, not a bearing: do not wrap it round silently
+        return None, f"bearing {numbers[0]:g} is outside 0 to 360 degrees"
     raw = numbers + ([label] if label else [])
     problems = Problems("point")
     point = parse_point(raw, "point", problems)
     if point is None:
         return None, problems.items[0].split(": ", 2)[-1]
     return point, None
+
+
+class PointEntry(Input):
+    """The one-line point entry; a paste of several lines goes to the editor as
+    several points instead of keeping only the first line."""
+
+    class PastedLines(Message):
+        def __init__(self, text: str):
+            super().__init__()
+            self.text = text
+
+    def _on_paste(self, event) -> None:
+        if len([ln for ln in event.text.splitlines() if ln.strip()]) > 1:
+            event.stop()
+            event.prevent_default()  # Textual would run Input's own handler too, keeping line 1
+            self.post_message(self.PastedLines(event.text))
 
 
 def entry_text(p: HorizonPoint) -> str:
@@ -94,8 +112,8 @@ class HorizonEditor(Vertical):
                 yield table
                 with Horizontal(id="entry-row"):
                     yield Label("Add ", id="entry-label")
-                    yield Input(placeholder="bearing elevation [distance m] [label]  ⏎", id="entry",
-                                compact=True)
+                    yield PointEntry(placeholder="bearing elevation [distance m] [label]  ⏎", id="entry",
+                                     compact=True)
                 yield Static("", markup=False, id="entry-msg", classes="field-msg")
             yield ProfilePreview(id="profile")
 
@@ -198,10 +216,13 @@ class HorizonEditor(Vertical):
         if problem:
             msg.update(f"✗ {problem}" if len(event.value.split()) >= 2 else "")
         else:
+            same = [i + 1 for i, p in enumerate(self.profile.points)
+                    if p.azimuth_deg == point.azimuth_deg and i != self.editing]
             msg.update(f"⏎ to {'add' if self.editing is None else 'change'}: bearing {point.azimuth_deg:g}°, "
                        f"elevation {point.elevation_deg:g}°"
                        + (f", {point.distance_m:g} m" if point.distance_m is not None else "")
-                       + (f", '{point.label}'" if point.label else ""))
+                       + (f", '{point.label}'" if point.label else "")
+                       + (f"  (point #{same[0]} has the same bearing)" if same else ""))
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         if event.input.id != "entry":
@@ -279,19 +300,30 @@ class HorizonEditor(Vertical):
         points = list(self.profile.points)
         points[i], points[i + step] = points[i + step], points[i]
         self._set(replace(self.profile, points=tuple(points)), cursor=i + step)
+        self._say("moved; the order is the record's only (the profile follows the bearings)")
+
+    def _say(self, text: str) -> None:
+        msg = self.query_one("#entry-msg", Static)
+        msg.remove_class("problem")
+        msg.update(text)
 
     def action_undo(self) -> None:
         if not self._undo:
-            self.app.notify("nothing to undo", timeout=2)
+            self._say("nothing to undo")
             return
         self.profile = self._undo.pop()
         self._refresh_all(keep_cursor=True)
         self.post_message(self.Changed(self.profile))
+        self._say(f"undone; {len(self._undo)} more step{'s' * (len(self._undo) != 1)} can be undone")
 
     def action_toggle_reference(self) -> None:
         """Say which north the typed bearings refer to (the numbers stay as typed)."""
         ref = "true" if self.profile.reference == "magnetic" else "magnetic"
         self._set(replace(self.profile, reference=ref), cursor=self._selected())
+        what = "compass (magnetic) bearings: the declination is added" if ref == "magnetic" else \
+            "true bearings: no declination"
+        self._say(f"the points now read as {what}; ctrl+z to undo")
+        self.app.notify(f"Bearings now read as {what}", timeout=4)
 
     def action_import_csv(self) -> None:
         self.app.action_import_horizon()
@@ -299,3 +331,23 @@ class HorizonEditor(Vertical):
     def replace_points(self, points, append: bool) -> None:
         new = (tuple(self.profile.points) + tuple(points)) if append else tuple(points)
         self._set(replace(self.profile, points=new), cursor=0 if not append else len(new) - 1)
+        self._say(f"{len(points)} points {'added' if append else 'imported'}; ctrl+z to undo")
+
+    def on_point_entry_pasted_lines(self, event: PointEntry.PastedLines) -> None:
+        """Several lines pasted into the entry (from notes, a spreadsheet): one
+        point a line; the lines that do not read are listed, the rest added."""
+        event.stop()
+        lines = [ln for ln in event.text.splitlines() if ln.strip()]
+        good, bad = [], []
+        for n, line in enumerate(lines, start=1):
+            point, problem = parse_entry(line.replace("\t", " "))
+            if point is None:
+                bad.append(f"line {n}: {problem}")
+            else:
+                good.append(point)
+        if good:
+            self.replace_points(good, append=True)
+        if bad:
+            msg = self.query_one("#entry-msg", Static)
+            msg.add_class("problem")
+            msg.update(f"✗ {len(bad)} pasted line{'s' * (len(bad) != 1)} not added: " + "; ".join(bad[:3]))

@@ -32,6 +32,7 @@ class SiteForm(VerticalScroll):
     def __init__(self, **kw):
         super().__init__(**kw)
         self._loading = False
+        self.site = None  # the site last loaded: where its mount stands
         self.problems: dict[str, str] = {}
         self.values: dict = {}
 
@@ -51,6 +52,7 @@ class SiteForm(VerticalScroll):
 
     def load(self, site) -> None:
         """Fill the fields from a site (None: a new site, fields blank)."""
+        self.site = site
         self._loading = True
         texts = field_values(site) if site is not None else {}
         for spec in FIELDS:
@@ -62,6 +64,19 @@ class SiteForm(VerticalScroll):
                 widget.value = text
         self._loading = False
         self._check_all(post=False)
+
+    def _context_note(self, key: str, value) -> str:
+        """What a valid value means here, where that is not obvious."""
+        if key == "mount.height_m":
+            site = self.site
+            if site is not None and site.mount.at is not None:
+                e, n = site.mount.at
+                return (f"at the plan spot {e:.1f} m E, {n:.1f} m N; horizon measured from "
+                        f"{site.horizon_height_m:g} m (Spots tab, b: back to the survey point)")
+            return "the measured horizon counts as seen from this height"
+        if key == "terminal.tilt_deg" and value and not self.values.get("terminal.scan_half_angle_deg"):
+            return "the tilt only matters with a field-of-view half-angle"
+        return ""
 
     def prefill(self, key: str, text: str) -> None:
         """Put ``text`` in one field (a new site's name and defaults)."""
@@ -80,6 +95,8 @@ class SiteForm(VerticalScroll):
 
     def _check(self, key: str) -> None:
         value, problem, note = parse_field(key, self._text(key))
+        if not problem:
+            note = note or self._context_note(key, value)
         msg = self.query_one("#" + _dom_id(key) + "-msg", Static)
         widget = self.query_one("#" + _dom_id(key))
         widget.set_class(bool(problem), "-invalid")
@@ -88,6 +105,8 @@ class SiteForm(VerticalScroll):
         msg.display = bool(problem or note)
         if problem:
             self.problems[key] = problem
+            if self.query_one("#" + _dom_id(key)).has_focus:
+                self.call_after_refresh(msg.scroll_visible)  # the reason, even under the last field
         else:
             self.problems.pop(key, None)
         self.values[key] = value
@@ -121,6 +140,9 @@ class SiteForm(VerticalScroll):
             if spec.key in self.problems:
                 return f"{spec.label}: {self.problems[spec.key]}"
         return None
+
+    def first_problem_label(self) -> str:
+        return next((spec.label for spec in FIELDS if spec.key in self.problems), "")
 
     def focus_first_problem(self) -> None:
         for spec in FIELDS:

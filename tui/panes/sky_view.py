@@ -18,5 +18,5 @@ class SkyView(Vertical):
         self.query_one("#sky", SkyChart).show(run)
         w = run.window
         self.query_one("#sky-caption", Static).update(
-            f"North up, east right; centre is the zenith.  {len(run.fleet):,} satellites, "
-            f"{w.start:%Y-%m-%d} {w.hours:g} h.  Minimum elevation {run.site.terminal.min_elevation_deg:g}°.")
+            f"North up, east right, zenith in the middle.  {len(run.fleet):,} satellites over {w.hours:g} h "
+            f"from {w.start:%Y-%m-%d %H:%M} UTC; minimum elevation {run.site.terminal.min_elevation_deg:g}°.")

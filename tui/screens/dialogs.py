@@ -3,6 +3,7 @@ safety note, the report export."""
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 from textual.app import ComposeResult
@@ -24,9 +25,7 @@ class _AnswerDialog(ModalScreen):
     BINDINGS = [Binding("escape", "cancel", "Cancel")]
 
     def on_mount(self) -> None:
-        field = self.query_one("#answer", Input)
-        field.focus()
-        field.cursor_position = len(field.value)
+        self.query_one("#answer", Input).focus()  # the suggestion selected: typing replaces it, End keeps it
 
     def refusal(self, text: str) -> str | None:
         return None
@@ -118,7 +117,7 @@ class SafetyNote(ModalScreen[bool]):
     """The work-at-height cautions for the site's mount kind.  Shown on F1, and
     once before a site's first export (``before_export``)."""
 
-    BINDINGS = [Binding("escape", "close", "Close"), Binding("enter", "close", "Understood", show=False)]
+    BINDINGS = [Binding("escape", "back", "Close"), Binding("enter", "understood", "Understood", show=False)]
 
     def __init__(self, mount_kind: str, before_export: bool = False):
         super().__init__()
@@ -131,7 +130,8 @@ class SafetyNote(ModalScreen[bool]):
                 for line in notes_for(self.mount_kind):
                     yield Static(f"• {line}", markup=False, classes="safety-line")
             if self.before_export:
-                yield Static("The report carries this note too.", classes="hint")
+                yield Static("The report carries this note too.  Esc goes back without writing it.",
+                             classes="hint")
             with Horizontal(classes="buttons"):
                 yield Button("Understood", variant="primary", id="understood")
 
@@ -142,8 +142,12 @@ class SafetyNote(ModalScreen[bool]):
         event.stop()
         self.dismiss(True)
 
-    def action_close(self) -> None:
+    def action_understood(self) -> None:
         self.dismiss(True)
+
+    def action_back(self) -> None:
+        """Esc: closed unread, so before an export the report is not written."""
+        self.dismiss(False)
 
 
 def check_report_path(text: str) -> str | None:
@@ -160,7 +164,24 @@ def check_report_path(text: str) -> str | None:
         return f"folder {folder} does not exist"
     if path.is_dir():
         return f"{path} is a folder"
+    if not os.access(folder, os.W_OK) or (path.exists() and not os.access(path, os.W_OK)):
+        return f"cannot write in {folder}: choose another folder"
     return None
+
+
+def check_site_path(text: str) -> str | None:
+    """Why ``text`` cannot be opened as a site, or None (a folder holding a
+    site.toml will do)."""
+    if not text:
+        return "type the path of a site.toml file (or of its folder)"
+    path = site_file_in(Path(text).expanduser())
+    if not path.is_file():
+        return f"{path}: no such file" if not path.exists() else f"{path}: not a file"
+    return None
+
+
+def site_file_in(path: Path) -> Path:
+    return path / "site.toml" if path.is_dir() else path
 
 
 class ExportReport(_AnswerDialog):

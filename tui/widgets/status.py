@@ -31,12 +31,14 @@ class StatusLine(Widget):
             right.append(saved, style="bold" if saved.startswith(("unsaved", "not saved")) else "dim")
         left = Text()
         if self.verdict:
-            left.append_text(verdict_text(self.verdict))
+            left.append_text(verdict_text(self.verdict, light=not self.app.current_theme.dark))
             if self.blocked is not None or self.verdict:
                 left.append(f"  blocked {_pct(self.blocked)}", style="bold")
                 left.append(f"  interr. {_pct(self.interruption)}")
                 if width >= 100:
                     left.append(f"  avail. {_pct(self.availability)}")
+        if right.cell_len > width // 2:  # a long state gives way to the name and the verdict
+            right.truncate(width // 2, overflow="ellipsis")
         room = width - left.cell_len - right.cell_len - 4
         name = self.site_name or "(new site)"
         if room < len(name):
