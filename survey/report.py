@@ -186,6 +186,12 @@ def _coords(lat: float, lon: float) -> str:
             f"{abs(lon):.5f}° {'E' if lon >= 0 else 'W'} (WGS84)")
 
 
+def _survey_day(text: str) -> str:
+    """The survey date as given: a date alone (midnight) prints without a time."""
+    when = datetime.fromisoformat(text.replace("Z", "+00:00"))
+    return when.strftime("%Y-%m-%d") if when.strftime("%H:%M:%S") == "00:00:00" else _utc(when)
+
+
 def report_id(inputs: dict, generated: datetime) -> str:
     """A short id for the record: date plus a digest of the inputs and the time made."""
     digest = hashlib.sha256((json.dumps(inputs, sort_keys=True) + generated.isoformat()).encode()).hexdigest()
@@ -280,8 +286,7 @@ def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
               ("Surveyed by", sv.get("surveyor", "") or "-"),
               ("Organisation", sv.get("organisation", "") or "-"),
               ("Customer", sv.get("customer", "") or "-"),
-              ("Surveyed on", _utc(datetime.fromisoformat(sv["date"].replace("Z", "+00:00")))
-               if sv.get("date") else "- (no [survey] date in the site file)"),
+              ("Surveyed on", _survey_day(sv["date"]) if sv.get("date") else "- (no [survey] date in the site file)"),
               ("Report made", _utc(generated))]
 
     o = result["outages"]
@@ -291,7 +296,7 @@ def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
         ("Interruption", _pct(a.interruption, 2),
          f"of the time the link is down (reassigned every {s.schedule.reassign_s:g} s)"),
         ("Outages a day", f"{o['count_per_day']:.1f}", "drop-outs per day under the scheduling model"),
-        ("Down time a day", f"{o['minutes_per_day']:.1f} min", "minutes per day"),
+        ("Down time a day", f"{o['minutes_per_day']:.1f} min", "link down, in minutes per day"),
         ("Longest outage", _duration(o["longest_s"]), "single longest drop-out in the window"),
     ]
 

@@ -108,7 +108,7 @@ class SpotsView(Vertical):
         notes += [f"! {w}" for w in ranking.warnings]
         notes.append(spot_note(run.site.mount.kind))
         self.query_one("#spots-notes", Static).update(Text("\n".join(notes)))
-        self._head(f"{len(ranking.results):,} candidates ranked")
+        self._head(f"{len(ranking.results):,} candidate positions ranked; the best of each spot listed")
         self._show_plan()
         if self.rows:
             table.move_cursor(row=0)
@@ -152,6 +152,8 @@ class SpotsView(Vertical):
     def action_use_spot(self) -> None:
         sel = self._selected()
         if sel is None:
-            self.app.notify("rank the spots first (r), then pick one", timeout=3)
+            has_plan = self.run is not None and self.run.site.plan is not None and self.run.site.plan.has_candidates
+            self.app.notify("rank the spots first (r), then pick one" if has_plan else
+                            "this site has no plan with candidate spots to choose from", timeout=3)
             return
         self.post_message(self.UseSpot(sel))
