@@ -192,6 +192,14 @@ class HorizonEditor(Vertical):
         cursor_az = trues[table.cursor_row].azimuth_deg if trues and 0 <= table.cursor_row < len(trues) else None
         preview.show(mask, trues, min_elevation_deg=self.min_elevation_deg, cursor_az=cursor_az)
 
+    def on_descendant_focus(self, event) -> None:
+        if event.widget.id == "entry":
+            self.query_one("#entry-label", Label).add_class("-here")
+
+    def on_descendant_blur(self, event) -> None:
+        if event.widget.id == "entry":
+            self.query_one("#entry-label", Label).remove_class("-here")
+
     def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
         event.stop()
         self._refresh_preview()

@@ -141,6 +141,20 @@ class SiteForm(VerticalScroll):
                 return f"{spec.label}: {self.problems[spec.key]}"
         return None
 
+    def on_descendant_focus(self, event) -> None:
+        self._mark_row(event.widget, True)
+
+    def on_descendant_blur(self, event) -> None:
+        self._mark_row(event.widget, False)
+
+    @staticmethod
+    def _mark_row(widget, here: bool) -> None:
+        """The focused field's label in reverse video (CSS :focus-within does not
+        restyle a sibling here), so the cursor's row shows without colour."""
+        row = widget.parent
+        if row is not None and row.has_class("field-row"):
+            row.query_one(".field-label").set_class(here, "-here")
+
     def first_problem_label(self) -> str:
         return next((spec.label for spec in FIELDS if spec.key in self.problems), "")
 
