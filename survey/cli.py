@@ -17,7 +17,7 @@ from . import __version__
 from .errors import InputError, Problems
 from .fileio import atomic_write_bytes
 from .pipeline import FleetChoice, SiteRun, mount_text, result_dict, run_site
-from .report import format_for, load_report_inputs, write_report
+from .report import format_for, load_report_inputs, pct, write_report
 from .safety import short_note, spot_note
 from .site import load_site, parse_time
 
@@ -149,10 +149,6 @@ class _Progress:
             sys.stderr.write(f"{self.label} done in {took:.1f} s\n")
 
 
-def _pct(x) -> str:
-    return "n/a" if x is None else f"{100 * x:.2f} %"
-
-
 def format_summary(run: SiteRun) -> str:
     """The human summary, fitted to an 80-column terminal."""
     d = result_dict(run)
@@ -180,9 +176,9 @@ def format_summary(run: SiteRun) -> str:
     o = d["outages"]
     lines += [
         "",
-        f"  blocked        {_pct(a.blocked_fraction):>9}  of usable sky samples",
-        f"  availability   {_pct(a.availability):>9}  of the time an unblocked satellite is in view",
-        f"  interruption   {_pct(a.interruption):>9}  of the time down (reassigned every {s.schedule.reassign_s:g} s)",
+        f"  blocked        {pct(a.blocked_fraction, 2):>9}  of usable sky samples",
+        f"  availability   {pct(a.availability, 2):>9}  of the time an unblocked satellite is in view",
+        f"  interruption   {pct(a.interruption, 2):>9}  of the time down (reassigned every {s.schedule.reassign_s:g} s)",
         f"  outages        {o['count_per_day']:.1f} a day, {o['minutes_per_day']:.1f} min a day, "
         f"longest {o['longest_s']:g} s",
     ]
@@ -195,7 +191,7 @@ def format_summary(run: SiteRun) -> str:
                 name = name[:29] + "…"
             span = f"{sec.from_deg:5.1f}°-{sec.to_deg:5.1f}°"
             lines.append(f"    {span:<16} {sec.peak_elevation_deg:4.1f}° {100 * sec.blocked_share:5.1f} % "
-                         f"{_pct(sec.blocked_fraction_if_cleared):>10}  {name}")
+                         f"{pct(sec.blocked_fraction_if_cleared, 2):>10}  {name}")
         lines.append("    (share of the blocked samples; blocked fraction if that sector were clear)")
     if run.warnings:
         lines += ["", "  warnings"]
@@ -247,7 +243,7 @@ def cmd_report(args) -> int:
     run = _run(args, site, fleet_choice, quiet=False)
     out = write_report(run, args.out, paper=args.paper, fleet_choice=fleet_choice)
     a = run.assessment
-    print(f"{site.name}: {a.verdict}, blocked {_pct(a.blocked_fraction)}")
+    print(f"{site.name}: {a.verdict}, blocked {pct(a.blocked_fraction, 2)}")
     print(f"report written to {out}")
     return 0
 
@@ -297,11 +293,11 @@ def format_spots(run: SiteRun, ranking) -> str:
     grown = f", trees grown {ranking.years:g} years" if ranking.years else ""
     b = ranking.best
     lines = [f"{s.name}: {len(ranking.results):,} candidate spots ranked{grown}",
-             f"  survey point  blocked {_pct(sp['blocked_fraction'])}, interruption {_pct(sp['interruption'])} "
+             f"  survey point  blocked {pct(sp['blocked_fraction'], 2)}, interruption {pct(sp['interruption'], 2)} "
              f"(measured, {sp['height_m']:g} m up)",
              f"  BEST  {b.candidate.name} at {b.candidate.height_m:g} m "
-             f"({b.candidate.east_m:.1f} E, {b.candidate.north_m:.1f} N): blocked {_pct(b.blocked_fraction)}, "
-             f"interruption {_pct(b.interruption)}", "",
+             f"({b.candidate.east_m:.1f} E, {b.candidate.north_m:.1f} N): blocked {pct(b.blocked_fraction, 2)}, "
+             f"interruption {pct(b.interruption, 2)}", "",
              "  best position of each candidate",
              f"    {'spot':<22} {'kind':<5} {'east m':>7} {'north m':>7} {'height':>7} {'blocked':>9} "
              f"{'interrupt':>9}"]
@@ -310,21 +306,21 @@ def format_spots(run: SiteRun, ranking) -> str:
         c = r.candidate
         name = c.name if len(c.name) <= 22 else c.name[:21] + "…"
         lines.append(f"    {name:<22} {c.kind:<5} {c.east_m:7.1f} {c.north_m:7.1f} {c.height_m:6.2f}m "
-                     f"{_pct(r.blocked_fraction):>9} {_pct(r.interruption):>9}")
+                     f"{pct(r.blocked_fraction, 2):>9} {pct(r.interruption, 2):>9}")
     if ranking.poles:
-        lines += ["", f"  poles: lowest height with blocked at most {_pct(ranking.target_blocked)}"]
+        lines += ["", f"  poles: lowest height with blocked at most {pct(ranking.target_blocked, 2)}"]
         for p in ranking.poles:
             if p.lowest is None:
                 best_here = next(r for r in best_of_each if r.candidate.kind == "pole"
                                  and (r.candidate.east_m, r.candidate.north_m) == (p.east_m, p.north_m))
                 lines.append(f"    {p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): no height reaches it; "
-                             f"best {_pct(best_here.blocked_fraction)} at {best_here.candidate.height_m:g} m")
+                             f"best {pct(best_here.blocked_fraction, 2)} at {best_here.candidate.height_m:g} m")
             else:
                 lines.append(f"    {p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): "
-                             f"{p.lowest.candidate.height_m:g} m, blocked {_pct(p.lowest.blocked_fraction)}")
+                             f"{p.lowest.candidate.height_m:g} m, blocked {pct(p.lowest.blocked_fraction, 2)}")
     if ranking.over_time:
         lines += ["", "  the best spot as the trees grow"]
-        cells = [f"{y:g} y {_pct(r.blocked_fraction)}" for y, r in ranking.over_time]
+        cells = [f"{y:g} y {pct(r.blocked_fraction, 2)}" for y, r in ranking.over_time]
         lines += _wrap(", ".join(cells), "    ")
     if ranking.warnings or run.warnings:
         lines += ["", "  warnings"]

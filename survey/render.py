@@ -781,7 +781,8 @@ def _share_pct(t: float, total: float) -> str:
     return f" {pct:.1f}%" if 0 < pct < 10 or 90 < pct < 100 else f" {pct:.0f}%"
 
 
-def _pct(f: float) -> str:
+def compact_pct(f: float) -> str:
+    """A percentage for a figure's legend: 4.6%, 12%."""
     v = 100.0 * float(f)
     return f"{v:.1f}%" if v < 9.95 else f"{v:.0f}%"
 
@@ -2053,7 +2054,7 @@ def plan_figure(*, obstacles=(), cells=(), markers=(), best=None, title="", subt
         if best.get("height_m") is not None:
             bits.append(_fmt_h(best["height_m"]))
         if best.get("blocked_fraction") is not None:
-            bits.append(f"{_pct(best['blocked_fraction'])} blocked")
+            bits.append(f"{compact_pct(best['blocked_fraction'])} blocked")
         text = "Best: " + ", ".join(bits)
         cands = around(bx, by, r_star + 6 * U) + around(bx, by, r_star + 40 * U)
         pl = _place_label(draw, text, f_best, cands, occupied, bounds, 3 * U)
@@ -2071,7 +2072,7 @@ def plan_figure(*, obstacles=(), cells=(), markers=(), best=None, title="", subt
         if mk.get("height_m") is not None:
             text += f" {_fmt_h(mk['height_m'])}"
         if mk.get("blocked_fraction") is not None:
-            text += f", {_pct(mk['blocked_fraction'])} blocked"
+            text += f", {compact_pct(mk['blocked_fraction'])} blocked"
         text = text.strip(", ")
         if text:
             cands = around(x, y, r_mk + 5 * U) + around(x, y, r_mk + 40 * U)

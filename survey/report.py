@@ -70,9 +70,9 @@ def recommendations(run: SiteRun) -> list[dict]:
         b = what_if_cleared(run, sec)
         verb = "Trimming or removing" if _looks_like_vegetation(sec.labels) else "Clearing or mounting above"
         text = (f"{verb} {_sector_name(sec)} (peak {_deg(sec.peak_elevation_deg)}) would cut blocked time "
-                f"from {_pct(a.blocked_fraction)} to {_pct(b.blocked_fraction)}")
-        if _pct(a.interruption) != _pct(b.interruption):
-            text += f" and interruption from {_pct(a.interruption)} to {_pct(b.interruption)}"
+                f"from {pct(a.blocked_fraction)} to {pct(b.blocked_fraction)}")
+        if pct(a.interruption) != pct(b.interruption):
+            text += f" and interruption from {pct(a.interruption)} to {pct(b.interruption)}"
         text += f"; the verdict would be {b.verdict}."
         out.append({
             "from_deg": round(float(sec.from_deg), 2), "to_deg": round(float(sec.to_deg), 2),
@@ -113,6 +113,15 @@ def spot_ranking(run: SiteRun):
     return rank_spots(run)
 
 
+def pole_text(p) -> str:
+    """One sentence on a pole's lowest adequate height (spots.PoleHeight)."""
+    if p.lowest is None:
+        return (f"{p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): no height in its range reaches "
+                f"{pct(p.target_blocked)} blocked.")
+    return (f"{p.pole}: {p.lowest.candidate.height_m:g} m is the lowest height with blocked at most "
+            f"{pct(p.target_blocked)} ({pct(p.lowest.blocked_fraction)}).")
+
+
 def spots_section(run: SiteRun, ranking) -> dict:
     """The report's mounting-spot section: the best position of each candidate,
     pole heights, how the best spot holds up as trees grow, one line of advice."""
@@ -124,30 +133,23 @@ def spots_section(run: SiteRun, ranking) -> dict:
     for r in ranking.best_of_each():
         c = r.candidate
         rows.append({"spot": c.name, "kind": c.kind, "position": f"{c.east_m:.1f} E, {c.north_m:.1f} N",
-                     "height": f"{c.height_m:g} m", "blocked": _pct(r.blocked_fraction, 2),
-                     "interruption": _pct(r.interruption, 2)})
-    poles = []
-    for p in ranking.poles:
-        if p.lowest is None:
-            poles.append(f"{p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): no height in its range reaches "
-                         f"{_pct(p.target_blocked)} blocked.")
-        else:
-            poles.append(f"{p.pole}: {p.lowest.candidate.height_m:g} m is the lowest height with blocked at most "
-                         f"{_pct(p.target_blocked)} ({_pct(p.lowest.blocked_fraction)}).")
+                     "height": f"{c.height_m:g} m", "blocked": pct(r.blocked_fraction, 2),
+                     "interruption": pct(r.interruption, 2)})
+    poles = [pole_text(p) for p in ranking.poles]
     growth = []
     plan = run.site.plan
     if any(t.growth_m_per_year > 0 for t in plan.trees):
         for y in GROWTH_YEARS:
             r = ranking.evaluator.evaluate([best.candidate], y)[0]
-            growth.append(f"in {y:g} years: blocked {_pct(r.blocked_fraction)}, "
-                          f"interruption {_pct(r.interruption)}")
+            growth.append(f"in {y:g} years: blocked {pct(r.blocked_fraction)}, "
+                          f"interruption {pct(r.interruption)}")
     verdict, _ = verdict_for(best.blocked_fraction, best.interruption, best.availability, crit)
     c = best.candidate
     if best.blocked_fraction is not None and a.blocked_fraction is not None \
             and best.blocked_fraction < a.blocked_fraction:
         advice = (f"Best spot: {c.name} at {c.height_m:g} m ({c.east_m:.1f} m east, {c.north_m:.1f} m north of "
-                  f"the survey point). It would cut blocked time from {_pct(a.blocked_fraction)} to "
-                  f"{_pct(best.blocked_fraction)}; the verdict there would be {verdict}.")
+                  f"the survey point). It would cut blocked time from {pct(a.blocked_fraction)} to "
+                  f"{pct(best.blocked_fraction)}; the verdict there would be {verdict}.")
     else:
         advice = "No candidate spot in the plan beats the survey point."
     as_json = ranking.as_dict()
@@ -160,7 +162,8 @@ def spots_section(run: SiteRun, ranking) -> dict:
 # ---------------------------------------------------------------------------
 # Formatting shared by every format
 # ---------------------------------------------------------------------------
-def _pct(x, digits: int = 1) -> str:
+def pct(x, digits: int = 1) -> str:
+    """A fraction as a percentage ("n/a" when undefined), as every output prints it."""
     return "n/a" if x is None else f"{100 * x:.{digits}f} %"
 
 
@@ -291,9 +294,9 @@ def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
 
     o = result["outages"]
     figures = [
-        ("Blocked fraction", _pct(a.blocked_fraction, 2), "of usable sky samples fall behind obstructions"),
-        ("Availability", _pct(a.availability, 2), "of the time at least one unblocked satellite is in view"),
-        ("Interruption", _pct(a.interruption, 2),
+        ("Blocked fraction", pct(a.blocked_fraction, 2), "of usable sky samples fall behind obstructions"),
+        ("Availability", pct(a.availability, 2), "of the time at least one unblocked satellite is in view"),
+        ("Interruption", pct(a.interruption, 2),
          f"of the time the link is down (reassigned every {s.schedule.reassign_s:g} s)"),
         ("Outages a day", f"{o['count_per_day']:.1f}", "drop-outs per day under the scheduling model"),
         ("Down time a day", f"{o['minutes_per_day']:.1f} min", "link down, in minutes per day"),
@@ -325,8 +328,8 @@ def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
 
     sectors = [{
         "span": f"{_deg(sec.from_deg)}-{_deg(sec.to_deg)}", "peak": _deg(sec.peak_elevation_deg),
-        "labels": ", ".join(sec.labels) or "(unlabelled)", "share": _pct(sec.blocked_share),
-        "if_cleared": _pct(sec.blocked_fraction_if_cleared, 2),
+        "labels": ", ".join(sec.labels) or "(unlabelled)", "share": pct(sec.blocked_share),
+        "if_cleared": pct(sec.blocked_fraction_if_cleared, 2),
     } for sec in a.sectors]
 
     events = sorted(o["events"], key=lambda e: -e["duration_s"])[:MAX_OUTAGE_ROWS]

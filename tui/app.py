@@ -67,7 +67,6 @@ class LeositeApp(App):
         self._edited_at: float | None = None
         self.update_times: list[float] = []  # seconds from an edit to its findings drawn
         self._generation = 0
-        self._form_problem: str | None = None
 
     def notify(self, message: str, *, markup: bool = False, **kw) -> None:
         """Messages carry file names and typed labels: never read them as markup."""
@@ -112,7 +111,6 @@ class LeositeApp(App):
         self.latest = None  # the last SiteRun shown
         self._assessed = None  # the site it was made from
         self.advice = []
-        self._form_problem = None
         ws = Workspace()
         if self.workspace is not None:
             self.switch_screen(ws)
@@ -151,12 +149,17 @@ class LeositeApp(App):
         return d.declination_deg, "; ".join(d.warnings)
 
     # ---------------------------------------------------------------- edits
+    @property
+    def _form_problem(self) -> str | None:
+        """The first refused field as 'Label: reason' (the form is the one record)."""
+        ws = self.workspace
+        return ws.query_one(SiteForm).first_problem() if ws is not None else None
+
     def on_site_form_changed(self, event: SiteForm.Changed) -> None:
         """Typing in a field: the field is checked at once (by the form); the site
         follows once typing pauses, so half-typed numbers ("9" on the way to
         "95.5") are never assessed or saved."""
         form = self.workspace.query_one(SiteForm)
-        self._form_problem = None if event.values is not None else form.first_problem()
         self._status(site_name=form.values.get("site.name") or "")  # the name as typed, even before it is valid
         if self._form_problem:
             self._status(state=f"stale: fix {self.workspace.query_one(SiteForm).first_problem_label()}",

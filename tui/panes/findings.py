@@ -12,13 +12,10 @@ from textual.widgets import Static
 
 from survey.pipeline import SiteRun
 from survey.render import fmt_duration
+from survey.report import pct
 
 from ..verdicts import verdict_text
 from ..widgets.timeline import OutageStrip
-
-
-def _pct(x, digits: int = 1) -> str:
-    return "n/a" if x is None else f"{100 * x:.{digits}f} %"
 
 
 class FindingsPane(VerticalScroll):
@@ -58,9 +55,9 @@ class FindingsPane(VerticalScroll):
         fig.add_column(justify="left", style="bold")
         fig.add_column(justify="right")
         fig.add_column(justify="left")
-        fig.add_row("Blocked", _pct(a.blocked_fraction, 2), "of the usable sky samples")
-        fig.add_row("Availability", _pct(a.availability, 2), "of the time an unblocked satellite is in view")
-        fig.add_row("Interruption", _pct(a.interruption, 2),
+        fig.add_row("Blocked", pct(a.blocked_fraction, 2), "of the usable sky samples")
+        fig.add_row("Availability", pct(a.availability, 2), "of the time an unblocked satellite is in view")
+        fig.add_row("Interruption", pct(a.interruption, 2),
                     f"of the time down (reassigned every {s.schedule.reassign_s:g} s)")
         fig.add_row("Drop-outs", f"{o['count_per_day']:.1f}/day",
                     f"{o['minutes_per_day']:.1f} min a day, longest {fmt_duration(o['longest_s'])}")
@@ -85,7 +82,7 @@ class FindingsPane(VerticalScroll):
             t.add_column("Labels", overflow="fold")
             for sec in a.sectors[:8]:
                 t.add_row(f"{sec.from_deg:5.1f}°–{sec.to_deg:5.1f}°", f"{sec.peak_elevation_deg:.1f}°",
-                          _pct(sec.blocked_share), _pct(sec.blocked_fraction_if_cleared),
+                          pct(sec.blocked_share), pct(sec.blocked_fraction_if_cleared),
                           Text(", ".join(sec.labels) or "(unlabelled)"))
             self.query_one("#sectors", Static).update(t)
         else:

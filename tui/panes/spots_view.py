@@ -10,15 +10,12 @@ from textual.containers import Horizontal, Vertical
 from textual.message import Message
 from textual.widgets import DataTable, Static
 
+from survey.report import pct, pole_text
 from survey.safety import spot_note
 
 from ..widgets.planchart import PlanChart
 
 GROWTH_STEPS = (0.0, 5.0, 10.0)
-
-
-def _pct(x) -> str:
-    return "n/a" if x is None else f"{100 * x:.1f} %"
 
 
 class SpotsView(Vertical):
@@ -92,19 +89,13 @@ class SpotsView(Vertical):
         self.rows = ranking.best_of_each()
         for r in self.rows:
             c = r.candidate
-            table.add_row(Text(c.name), _pct(r.blocked_fraction), f"{c.height_m:.2f}", _pct(r.interruption),
+            table.add_row(Text(c.name), pct(r.blocked_fraction), f"{c.height_m:.2f}", pct(r.interruption),
                           c.kind, f"{c.east_m:.1f}", f"{c.north_m:.1f}")
         sp = ranking.survey_point
-        notes = [f"Survey point ({sp['height_m']:g} m, measured horizon): blocked {_pct(sp['blocked_fraction'])}."]
-        for p in ranking.poles:
-            if p.lowest is None:
-                notes.append(f"Pole {p.pole}: no height up to {p.max_height_m:g} m reaches "
-                             f"{_pct(p.target_blocked)} blocked.")
-            else:
-                notes.append(f"Pole {p.pole}: {p.lowest.candidate.height_m:g} m is the lowest at or under "
-                             f"{_pct(p.target_blocked)} blocked.")
+        notes = [f"Survey point ({sp['height_m']:g} m, measured horizon): blocked {pct(sp['blocked_fraction'])}."]
+        notes += [f"Pole {pole_text(p)}" for p in ranking.poles]
         for y, r in ranking.over_time[1:]:
-            notes.append(f"Best spot after {y:g} years of growth: blocked {_pct(r.blocked_fraction)}.")
+            notes.append(f"Best spot after {y:g} years of growth: blocked {pct(r.blocked_fraction)}.")
         notes += [f"! {w}" for w in ranking.warnings]
         notes.append(spot_note(run.site.mount.kind))
         self.query_one("#spots-notes", Static).update(Text("\n".join(notes)))

@@ -87,11 +87,6 @@ def _fmt_num(v: float) -> str:
     return f"{v:.0f}" if abs(v - round(v)) < 1e-6 else f"{v:g}"
 
 
-def _pct(f: float) -> str:
-    v = 100.0 * float(f)
-    return f"{v:.1f}%" if v < 9.95 else f"{v:.0f}%"
-
-
 class PlanGeometry:
     """Map frame of :func:`plan_chart`: ``rows`` x ``width`` map cells, metres a
     column ``s`` (a row is 2 s), site point at cell (``r0``, ``c0``); the scale
@@ -358,7 +353,8 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
     n_leg = _legend_rows(height)
     if n_leg:
         q = vmax / 4.0
-        ramp_items = [(RAMP[i], f"ramp{i}", f"<{_pct((i + 1) * q)}" if i < 3 else f"\u2264{_pct(vmax)}")
+        pct = _render.compact_pct
+        ramp_items = [(RAMP[i], f"ramp{i}", f"<{pct((i + 1) * q)}" if i < 3 else f"\u2264{pct(vmax)}")
                       for i in range(4)] if cl.size else []
         kinds = {o.kind for o in obs}
         sym = []
@@ -376,7 +372,7 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
             if best.get("height_m") is not None:
                 bits.append(f"{round(float(best['height_m']), 1):g} m")
             if best.get("blocked_fraction") is not None:
-                bits.append(_pct(best["blocked_fraction"]))
+                bits.append(_render.compact_pct(best["blocked_fraction"]))
             sym.append((BEST, "best", "best: " + " ".join(bits)))
         if selected is not None:
             sym.append(("[ ]", "selected", "selected"))
@@ -386,7 +382,7 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
             if mk.get("height_m") is not None:
                 text += f" {round(float(mk['height_m']), 1):g} m"
             if mk.get("blocked_fraction") is not None:
-                text += f" {_pct(mk['blocked_fraction'])}"
+                text += f" {_render.compact_pct(mk['blocked_fraction'])}"
             mk_items.append((key, "marker", text.strip()))
 
         def write(row, items, lead=""):

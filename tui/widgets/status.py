@@ -7,6 +7,8 @@ from rich.text import Text
 from textual.reactive import reactive
 from textual.widget import Widget
 
+from survey.report import pct
+
 from ..verdicts import verdict_text
 
 
@@ -33,10 +35,10 @@ class StatusLine(Widget):
         if self.verdict:
             left.append_text(verdict_text(self.verdict, light=not self.app.current_theme.dark))
             if self.blocked is not None or self.verdict:
-                left.append(f"  blocked {_pct(self.blocked)}", style="bold")
-                left.append(f"  interr. {_pct(self.interruption)}")
+                left.append(f"  blocked {pct(self.blocked)}", style="bold")
+                left.append(f"  interr. {pct(self.interruption)}")
                 if width >= 100:
-                    left.append(f"  avail. {_pct(self.availability)}")
+                    left.append(f"  avail. {pct(self.availability)}")
         if right.cell_len > width // 2:  # a long state gives way to the name and the verdict
             right.truncate(width // 2, overflow="ellipsis")
         room = width - left.cell_len - right.cell_len - 4
@@ -52,7 +54,3 @@ class StatusLine(Widget):
         out.append_text(right)
         out.truncate(width)
         return out
-
-
-def _pct(x) -> str:
-    return "n/a" if x is None else f"{100 * x:.1f} %"
