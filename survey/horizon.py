@@ -96,55 +96,57 @@ class HorizonMask:
         return np.interp(a, xp, fp)
 
     def with_sector_cleared(self, start_deg: float, end_deg: float) -> "HorizonMask":
-        """This mask with its knots in [start, end) (clockwise; start == end means
-        all round) set to 0: what the site would see if that obstruction were gone.
-        For a sector from :meth:`sectors_above`, the knots just outside it are at
-        or below the threshold, so no sample above the threshold stays blocked
-        inside the sector."""
+        """This mask with its knots in the sector [start, end) (clockwise, see
+        :func:`in_sector`; (0, 360) is all round) set to 0: what the site would
+        see if that obstruction were gone.  For a sector from :meth:`sectors_above`,
+        the knots just outside it are at or below the threshold, so no azimuth
+        inside the sector stays above the threshold."""
         inside = in_sector(self.az_deg, start_deg, end_deg)
         return HorizonMask(self.az_deg.copy(), np.where(inside, 0.0, self.el_deg), self.labels)
 
     def sectors_above(self, threshold_deg: float) -> list[tuple[float, float]]:
         """Maximal azimuth intervals (start, end), degrees, where the mask is above
-        ``threshold_deg``.  An interval may wrap (start > end); (0, 360) means all
-        round.  Computed exactly from the knots and the linear crossings."""
-        if self.az_deg.size == 0:
+        ``threshold_deg``; each has positive width, none overlap.  An interval may
+        wrap through north (start > end); (0, 360) means all round.  Computed
+        exactly from the knots and the linear crossings.
+
+        The walk starts at a knot at or below the threshold, so no interval can
+        straddle the walk's start and end: an interval through north is found in
+        one piece wherever the first knot lies."""
+        n = self.az_deg.size
+        above = self.el_deg > threshold_deg
+        if n == 0 or not above.any():
             return []
-        if self.az_deg.size == 1 or np.all(self.el_deg > threshold_deg):
-            return [(0.0, 360.0)] if self.el_deg[0] > threshold_deg else []
-        # Walk one period of knots, from the first knot to the same knot + 360.
-        az = np.concatenate([self.az_deg, self.az_deg[:1] + 360.0])
-        el = np.concatenate([self.el_deg, self.el_deg[:1]])
-        runs: list[list[float]] = []
-        current: list[float] | None = None
-        for i in range(len(az) - 1):
+        if above.all():
+            return [(0.0, 360.0)]
+        j = int(np.flatnonzero(~above)[0])
+        idx = np.concatenate([np.arange(j, n), np.arange(0, j + 1)])
+        az = self.az_deg[idx] + np.where(np.arange(n + 1) >= n - j, 360.0, 0.0)
+        el = self.el_deg[idx]
+        runs: list[tuple[float, float]] = []
+        start = None
+        for i in range(n):
             a0, a1, e0, e1 = az[i], az[i + 1], el[i], el[i + 1]
-            above0, above1 = e0 > threshold_deg, e1 > threshold_deg
-            if above0 and current is None:
-                current = [a0, a0]
-            if above0 != above1 and e1 != e0:
-                cross = a0 + (threshold_deg - e0) / (e1 - e0) * (a1 - a0)
-                if above0:
-                    current[1] = cross
-                    runs.append(current)
-                    current = None
-                else:
-                    current = [cross, cross]
-            elif above0 and above1:
-                current[1] = a1
-        if current is not None:
-            runs.append(current)
-        # A run that ends at the period's end joins the one that starts at its start.
-        if len(runs) > 1 and runs[-1][1] >= az[-1] - 1e-9 and runs[0][0] <= az[0] + 1e-9:
-            last = runs.pop()
-            runs[0] = [last[0], runs[0][1] + 360.0]
-        return [(s % 360.0, e % 360.0 if e - s < 360.0 else (s % 360.0)) for s, e in runs]
+            if (e0 > threshold_deg) == (e1 > threshold_deg):
+                continue
+            cross = a0 + (threshold_deg - e0) / (e1 - e0) * (a1 - a0)
+            if e1 > threshold_deg:
+                start = cross
+            else:
+                if cross > start:  # a spike of zero width covers no azimuth
+                    runs.append((start, cross))
+                start = None
+        if len(runs) == 1 and runs[0][1] - runs[0][0] >= 360.0:
+            return [(0.0, 360.0)]  # above everywhere but at one touching knot
+        return [(float(a % 360.0), float(b % 360.0)) for a, b in runs]
 
 
 def in_sector(azimuth_deg: np.ndarray, start_deg: float, end_deg: float) -> np.ndarray:
-    """True where azimuths lie in [start, end), going clockwise, wrapping through 360."""
+    """True where azimuths lie in [start, end), going clockwise, wrapping through
+    north when start > end.  A width of a whole turn (end = start + 360, such as
+    (0, 360)) is all round; start == end is empty."""
     a = np.asarray(azimuth_deg) % 360.0
-    if end_deg == start_deg:  # all round
+    if end_deg - start_deg >= 360.0:
         return np.ones(a.shape, dtype=bool)
     width = (end_deg - start_deg) % 360.0
     return ((a - start_deg) % 360.0) < width

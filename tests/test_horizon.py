@@ -74,7 +74,75 @@ def test_sector_wrapping_through_north():
 def test_full_wall_is_one_all_round_sector():
     m = mask((0, 90), (180, 90))
     assert m.sectors_above(25) == [(0.0, 360.0)]
-    assert np.all(in_sector(np.arange(0, 360, 10.0), 0.0, 0.0))
+    assert np.all(in_sector(np.arange(0, 360, 10.0), 0.0, 360.0))
+    # A zero-width interval holds no azimuth: it is never the whole circle.
+    assert not np.any(in_sector(np.arange(0, 360, 10.0), 2.5, 2.5))
+
+
+def test_sector_rising_after_the_last_point_and_crossing_north():
+    # The rise sits on the segment from the last point (350) through north to the
+    # first (10), and the first point is already above the threshold.
+    m = mask((350, 0), (10, 40), (180, 0))
+    # Worked by hand: 350 -> 10 spans 20 deg rising 0 -> 40, so 25 deg is reached
+    # 20 * 25/40 = 12.5 deg after 350, at 2.5; 10 -> 180 falls 40 -> 0 over 170 deg,
+    # so 25 deg is left 170 * 15/40 = 63.75 deg after 10, at 73.75.
+    (a, b), = m.sectors_above(25)
+    assert a == pytest.approx(2.5) and b == pytest.approx(73.75)
+
+
+def test_sector_list_for_a_plan_horizon_above_at_degree_zero():
+    # A horizon derived at whole degrees: degree 0 above the threshold, 359 below.
+    el = np.zeros(360)
+    el[[0, 1, 2]] = 40.0
+    m = HorizonMask(np.arange(360.0), el)
+    # 359 -> 0: from 0 to 40, 25 is crossed at 359.625;
+    # 2 -> 3: from 40 to 0, crossed at 2.375.
+    (a, b), = m.sectors_above(25)
+    assert a == pytest.approx(359.625) and b == pytest.approx(2.375)
+
+
+masks = st.lists(
+    st.tuples(st.floats(0, 359.99, allow_nan=False), st.floats(0, 90, allow_nan=False)),
+    min_size=1, max_size=12,
+    unique_by=lambda p: round(p[0], 3),  # two readings at one bearing make a vertical step
+)
+
+
+def _width(a, b):
+    return 360.0 if b - a >= 360.0 else (b - a) % 360.0
+
+
+@settings(max_examples=300, deadline=None)
+@given(masks, st.floats(0, 89, allow_nan=False))
+def test_sector_list_covers_exactly_where_the_mask_is_above(pts, threshold):
+    """For any mask: the sectors are disjoint, each has positive width, and an
+    azimuth is in one of them exactly when the mask, interpolated by hand between
+    the readings (with the wrap through north), is above the threshold."""
+    m = mask(*pts)
+    sectors = m.sectors_above(threshold)
+    for a, b in sectors:
+        assert 0 < _width(a, b) <= 360.0
+    # The hand interpolation: each azimuth between its two neighbouring readings,
+    # going clockwise, with no help from the code under test.
+    knots = sorted((a % 360.0, e) for a, e in pts)
+    grid = np.arange(0.0, 360.0, 0.37) + 0.011
+    def by_hand(x):
+        if len(knots) == 1:
+            return knots[0][1]
+        for (a0, e0), (a1, e1) in zip(knots, knots[1:] + [(knots[0][0] + 360.0, knots[0][1])]):
+            for shift in (0.0, 360.0):
+                if a0 <= x + shift <= a1:
+                    return e0 + (e1 - e0) * (x + shift - a0) / (a1 - a0)
+        raise AssertionError(x)
+    hand = np.array([by_hand(x) for x in grid])
+    count = sum(in_sector(grid, a, b).astype(int) for a, b in sectors) if sectors else np.zeros(grid.size, int)
+    assert np.all(count <= 1)  # disjoint
+    clear_of_edges = np.abs(hand - threshold) > 1e-6
+    np.testing.assert_array_equal((count == 1)[clear_of_edges], (hand > threshold)[clear_of_edges])
+    # The widths add up to the measure of the set above the threshold (fine grid).
+    fine = np.arange(0.0, 360.0, 0.01)
+    above = np.count_nonzero(m.elevation_at(fine) > threshold) * 0.01
+    assert sum(_width(a, b) for a, b in sectors) == pytest.approx(above, abs=0.01 * (2 * len(pts) + 1))
 
 
 def test_magnetic_profile_rotates_by_declination():
