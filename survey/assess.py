@@ -1,14 +1,15 @@
 """Assessment: sky tracks x horizon mask x scheduling model -> the site's figures.
 
-Definitions (DESIGN.md, "Metrics"): a stored sample is *usable sky*; it is
+Definitions (README, "What the figures mean"): a stored sample is *usable sky*; it is
 *blocked* when its elevation is below the mask at its azimuth.
 
 - blocked_fraction: blocked usable samples / usable samples;
 - availability: share of sample times with at least one usable, unblocked satellite;
 - interruption: share of sample times the link is down under the scheduling model
-  (every ``reassign_s`` seconds the highest usable satellite is assigned, blind to
-  obstructions; once the assigned satellite is blocked, the link stays down until
-  the next reassignment);
+  (at each reassignment instant, every ``reassign_s`` seconds, the highest usable
+  satellite is assigned, blind to obstructions; one that leaves usable sky is
+  replaced at once by the highest usable one; once the assigned satellite is
+  blocked, the link stays down until the next assignment);
 - outages: runs of consecutive down samples;
 - sectors: azimuth intervals where the mask rises above the minimum elevation,
   with the share of blocked samples each causes;
@@ -96,45 +97,89 @@ class Assignment:
     once per set of tracks and reused for every mask (a horizon edit, or each of
     many candidate spots).
 
-    ``first`` marks the reassignment instants (bool per sample time); ``sample``
-    is, per sample time, the index into the tracks of the assigned satellite's
-    sample at that time, or -1 where it has none (not assigned, or set below the
-    minimum elevation since it was assigned)."""
+    ``first`` marks the assignment instants (bool per sample time): each
+    reassignment instant, and each handover where the assigned satellite left
+    usable sky; ``sample`` is, per sample time, the index into the tracks of the
+    assigned satellite's sample at that time, or -1 where none is assigned (no
+    usable satellite since the last assignment instant)."""
 
     first: np.ndarray
     sample: np.ndarray
 
 
+def reassignment_instants(count: int, step_s: float, reassign_s: float) -> np.ndarray:
+    """Bool per sample time: the first sample at or after each multiple of
+    ``reassign_s`` from the window start."""
+    slot = np.floor(np.arange(count) * step_s / reassign_s + 1e-9).astype(np.int64)
+    return np.concatenate([[True], slot[1:] != slot[:-1]])[:count]
+
+
 def schedule_assignment(tracks: SkyTracks, reassign_s: float) -> Assignment:
-    """Which satellite is assigned at each sample time, and its sample there: every
-    ``reassign_s`` seconds (at the first sample at or after each multiple from the
-    window start) the highest usable satellite, held until the next instant."""
-    n, step = tracks.count, tracks.window.step_s
-    k = np.arange(n)
-    slot = np.floor(k * step / reassign_s + 1e-9).astype(np.int64)
-    first = np.concatenate([[True], slot[1:] != slot[:-1]])  # reassignment instants
-    t, sat, el = tracks.time_index, tracks.sat, tracks.el_deg
-    # Highest usable satellite at each time: samples are sorted by time, so a
-    # lexsort by (elevation, time) puts each time's highest last.
+    """Which satellite is assigned at each sample time, and its sample there, under
+    the scheduling model (README, "What the figures mean"):
+
+    - at each reassignment instant the highest usable satellite is assigned (none:
+      the link is down until one is usable, which is then assigned);
+    - when the assigned satellite leaves usable sky it is replaced at that sample
+      by the highest usable satellite: a new assignment.
+
+    Vectorised over slots: each round follows every slot's current assignment to
+    its end (the slot's end, the satellite's last usable sample, or the first
+    usable sample after an empty spell) and starts the next assignment there; the
+    rounds needed are the most handovers in one slot."""
+    n = tracks.count
+    t, sat, el = tracks.time_index.astype(np.int64), tracks.sat.astype(np.int64), tracks.el_deg
+    instants = reassignment_instants(n, tracks.window.step_s, reassign_s)
+    if n == 0 or t.size == 0:  # no usable satellite at all: never assigned
+        return Assignment(instants, np.full(n, -1, dtype=np.int64))
+    # Highest usable sample at each time (samples are sorted by time, so a lexsort
+    # by (elevation, time) puts each time's highest last).
+    best = np.full(n, -1, dtype=np.int64)
     order = np.lexsort((el, t))
-    last_of_time = np.concatenate([t[order][1:] != t[order][:-1], [True]]) if t.size else np.zeros(0, bool)
-    best_sat = np.full(n, -1, dtype=np.int64)
-    best_sat[t[order][last_of_time]] = sat[order][last_of_time]
-    assigned = best_sat[k[first]][np.cumsum(first) - 1]  # held until the next instant
-    # Is (assigned, k) a stored sample?  Look up by key time*S + sat.
+    last_of_time = np.concatenate([t[order][1:] != t[order][:-1], [True]])
+    best[t[order][last_of_time]] = order[last_of_time]
+    # For each sample, the time its satellite's run of consecutive usable samples ends.
+    run_end = np.zeros(t.size, dtype=np.int64)
+    by_sat = np.lexsort((t, sat))
+    ts, ss = t[by_sat], sat[by_sat]
+    breaks = np.concatenate([(ss[1:] != ss[:-1]) | (ts[1:] != ts[:-1] + 1), [True]])
+    ends = np.flatnonzero(breaks)
+    run_of = np.searchsorted(ends, np.arange(t.size))
+    run_end[by_sat] = ts[ends[run_of]] + 1
+    # First time at or after k with a usable satellite (n when none).
+    has = best >= 0
+    next_usable = np.where(has, np.arange(n), n)
+    next_usable = np.minimum.accumulate(next_usable[::-1])[::-1]
+    slot_end = np.append(np.flatnonzero(instants)[1:], n)
+    slot_end = np.repeat(slot_end, np.diff(np.append(np.flatnonzero(instants), n)))
+
+    first = instants.copy()
+    starts = np.flatnonzero(instants)
+    while starts.size:
+        b = best[starts]
+        ends = np.where(b >= 0, run_end[np.maximum(b, 0)], next_usable[starts])
+        ends = np.maximum(ends, starts + 1)
+        starts = ends[ends < slot_end[starts]]
+        first[starts] = True
+    seg = np.cumsum(first) - 1
+    sample = best[np.flatnonzero(first)][seg]
+    # ``sample`` holds the assigned satellite's sample at its assignment instant;
+    # within the assignment the same satellite's sample at time k is that index
+    # moved on by the samples stored between (found by key time*S + sat).
     S = max(len(tracks.fleet), 1)
-    keys = t.astype(np.int64) * S + sat
-    want = k * S + np.maximum(assigned, 0)
-    pos = np.clip(np.searchsorted(keys, want), 0, max(keys.size - 1, 0))
-    found = (keys.size > 0) & (assigned >= 0)
-    if keys.size:
-        found &= keys[pos] == want
+    keys = t * S + sat
+    assigned_sat = np.where(sample >= 0, sat[np.maximum(sample, 0)], -1)
+    want = np.arange(n) * S + np.maximum(assigned_sat, 0)
+    pos = np.clip(np.searchsorted(keys, want), 0, keys.size - 1)
+    found = (assigned_sat >= 0) & (keys[pos] == want)
     return Assignment(first, np.where(found, pos, -1))
 
 
 def down_under(assignment: Assignment, blocked: np.ndarray) -> np.ndarray:
-    """Per sample time: is the link down under the reassignment model, given which
-    stored samples are blocked?  Cheap: the mask-free part is in ``assignment``."""
+    """Per sample time: is the link down under the scheduling model, given which
+    stored samples are blocked?  Down with no satellite assigned, and from a
+    blocked sample of the assigned one until the next assignment instant.  Cheap:
+    the mask-free part is in ``assignment``."""
     first, sample = assignment.first, assignment.sample
     n = first.size
     if blocked.size:
@@ -142,7 +187,7 @@ def down_under(assignment: Assignment, blocked: np.ndarray) -> np.ndarray:
     else:
         up = np.zeros(n, dtype=bool)
     down = ~up
-    # Once down within a slot, down until the slot ends.
+    # Once down within an assignment, down until the assignment ends.
     cs = np.cumsum(down)
     slot_start = np.flatnonzero(first)
     before = np.repeat(cs[slot_start] - down[slot_start], np.diff(np.append(slot_start, n)))
@@ -175,17 +220,35 @@ def runs(flags: np.ndarray) -> list[Outage]:
     return [Outage(int(a), int(b - a)) for a, b in zip(starts, ends)]
 
 
+def sector_of(azimuth_deg: np.ndarray, sectors: list[tuple[float, float]]) -> np.ndarray:
+    """Index into ``sectors`` of the sector holding each azimuth, or of the nearest
+    one (so a blocked sample a rounding error outside the exact crossing still
+    counts for the sector that blocks it); -1 with no sectors."""
+    a = np.asarray(azimuth_deg, dtype=np.float64) % 360.0
+    if not sectors:
+        return np.full(a.shape, -1, dtype=np.int64)
+    dist = np.empty((len(sectors),) + a.shape)
+    for i, (s, e) in enumerate(sectors):
+        width = 360.0 if e - s >= 360.0 else (e - s) % 360.0
+        past = (a - s) % 360.0  # clockwise from the sector's start
+        dist[i] = np.where(past < width, 0.0, np.minimum(past - width, 360.0 - past))
+    return np.argmin(dist, axis=0)
+
+
 def obstruction_sectors(tracks: SkyTracks, mask: HorizonMask, blocked: np.ndarray,
                         min_elevation_deg: float) -> list[Sector]:
     """Azimuth sectors where the mask rises above the minimum elevation (only there
-    can it block usable samples), costliest first."""
+    can it block usable samples), costliest first.  Every blocked sample counts
+    for exactly one sector, so the shares sum to 1 (0 with nothing blocked)."""
     total_blocked = int(blocked.sum())
     usable = len(tracks)
+    bounds = mask.sectors_above(min_elevation_deg)
+    owner = sector_of(tracks.az_deg[blocked], bounds)
+    per_sector = np.bincount(owner, minlength=len(bounds)) if bounds else np.zeros(0, np.int64)
     out = []
-    for a, b in mask.sectors_above(min_elevation_deg):
-        inside = in_sector(tracks.az_deg, a, b if b != 360.0 else a)
-        n_blk = int(np.count_nonzero(blocked & inside))
-        knots = in_sector(mask.az_deg, a, b if b != 360.0 else a)
+    for i, (a, b) in enumerate(bounds):
+        n_blk = int(per_sector[i])
+        knots = in_sector(mask.az_deg, a, b)
         peak = float(max(mask.el_deg[knots].max() if knots.any() else 0.0, min_elevation_deg))
         labels = tuple(dict.fromkeys(lbl for lbl, k in zip(mask.labels, knots) if k and lbl))
         out.append(Sector(a, b, peak, labels, n_blk,

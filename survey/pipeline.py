@@ -212,7 +212,7 @@ def mount_text(site: Site) -> str:
 
 
 def result_dict(run: SiteRun) -> dict:
-    """The JSON object of ``leosite assess --json`` (keys in DESIGN.md)."""
+    """The JSON object of ``leosite assess --json`` (keys in README, "JSON output")."""
     s, a, w = run.site, run.assessment, run.window
     return {
         "site": {

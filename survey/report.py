@@ -53,8 +53,7 @@ def _sector_name(sec: Sector) -> str:
 
 def what_if_cleared(run: SiteRun, sector: Sector) -> Assessment:
     """``run`` re-assessed with ``sector``'s mask set to zero (the tracks are reused)."""
-    end = sector.to_deg if sector.to_deg != 360.0 else sector.from_deg
-    mask = run.mask.with_sector_cleared(sector.from_deg, end)
+    mask = run.mask.with_sector_cleared(sector.from_deg, sector.to_deg)
     return assess(run.tracks, mask, run.site.criteria, run.site.schedule)
 
 
@@ -395,9 +394,11 @@ def method_text(run: SiteRun) -> list[str]:
         "Horizon mask: straight lines between measured points, wrapping through north. A satellite sample "
         f"counts as usable sky at or above {s.terminal.min_elevation_deg:g}° elevation (and inside the "
         "field-of-view cone when one is set); it is blocked when it lies below the mask at its azimuth.",
-        f"Scheduling model: every {s.schedule.reassign_s:g} s the network assigns the highest usable satellite, "
-        "not knowing the local obstructions; if that satellite is blocked the link is down until the next "
-        "reassignment. Blocked fraction is the share of usable samples behind obstructions; availability is "
+        f"Scheduling model (scheduling period {s.schedule.reassign_s:g} s; leosite's default is 15 s, set it to "
+        "what your network uses): at each reassignment the highest usable satellite is assigned, not knowing "
+        "the local obstructions; one that sets or leaves the field of view is handed over at once to the "
+        "highest usable one; if the assigned satellite is blocked the link is down until the next assignment. "
+        "Blocked fraction is the share of usable samples behind obstructions; availability is "
         "the share of time with at least one unblocked satellite (the best an obstruction-aware network could do).",
         "Verdict thresholds: qualified up to {:.0%} blocked and {:.0%} interruption, marginal up to {:.0%} and "
         "{:.0%}; not-qualified below {:.0%} availability.".format(

@@ -65,8 +65,12 @@ class Criteria:
 
 @dataclass(frozen=True)
 class Schedule:
-    """Scheduling model: every ``reassign_s`` seconds the network assigns the
-    highest usable satellite, not knowing the local obstructions."""
+    """Scheduling model (README, "What the figures mean"): at each reassignment
+    instant, every ``reassign_s`` seconds, the highest usable satellite is
+    assigned, not knowing the local obstructions; one that leaves usable sky is
+    handed over at once.  ``reassign_s`` is the scheduling period: 15 s is
+    leosite's default, not a fact about any network; set it to what your
+    network uses."""
 
     reassign_s: float = 15.0
 

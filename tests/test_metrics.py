@@ -7,11 +7,13 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from skyfield.api import EarthSatellite, load, wgs84
 
 from survey.assess import assess, runs, schedule_down, verdict_for
 from survey.constellation import Shell, walker_fleet
-from survey.horizon import HorizonMask, HorizonPoint, HorizonProfile, in_sector
+from survey.horizon import HorizonMask, HorizonPoint, HorizonProfile
 from survey.pipeline import run_site
 from survey.site import Criteria, Schedule, Terminal, WindowSpec, load_site
 from survey.tracks import Observer, compute_tracks
@@ -91,41 +93,129 @@ def test_half_plane_wall_blocks_what_lies_behind_it(tracks, reference):
     assert a.blocked_fraction == pytest.approx(behind / az.size, abs=2 / az.size)
 
 
-def brute_force_down(tracks, blocked, reassign_s):
-    """The scheduling model written out plainly, one sample time at a time."""
-    n, step = tracks.count, tracks.window.step_s
-    by_time = {}
-    for j in range(len(tracks)):
-        by_time.setdefault(int(tracks.time_index[j]), []).append(j)
-    down = np.zeros(n, bool)
-    assigned, slot_down, slot = None, False, None
-    for k in range(n):
-        s = int(np.floor(k * step / reassign_s + 1e-9))
-        if s != slot:  # a reassignment instant: take the highest usable satellite
-            slot, slot_down = s, False
-            cands = by_time.get(k, [])
-            assigned = int(tracks.sat[max(cands, key=lambda j: tracks.el_deg[j])]) if cands else None
-        here = [j for j in by_time.get(k, []) if int(tracks.sat[j]) == assigned]
-        up = bool(here) and not blocked[here[0]]
-        slot_down = slot_down or not up
-        down[k] = slot_down
+def reassignment_instant(k, step_s, reassign_s):
+    """README, "What the figures mean": a reassignment falls on the first sample at
+    or after each multiple of reassign_s from the window start."""
+    return k == 0 or np.floor(k * step_s / reassign_s + 1e-9) != np.floor((k - 1) * step_s / reassign_s + 1e-9)
+
+
+def plain_loop_down(reference, count, step_s, reassign_s, is_blocked):
+    """The scheduling rule as the README words it, one sample time at a time, over
+    the skyfield positions of the ``reference`` fixture (not the code's tracks):
+
+    - at each reassignment instant the highest usable satellite is assigned (none:
+      the link is down until one is usable);
+    - when the assigned satellite leaves usable sky, it is replaced at that sample
+      by the highest usable satellite: that is a new assignment;
+    - when the assigned satellite is blocked, the link is down until the next
+      assignment."""
+    sat, k_of, az, el = reference
+    usable = {}  # time -> {satellite: (az, el)}
+    for i in range(sat.size):
+        usable.setdefault(int(k_of[i]), {})[int(sat[i])] = (az[i], el[i])
+    down = np.zeros(count, bool)
+    assigned, latched = None, False
+    for k in range(count):
+        here = usable.get(k, {})
+        if reassignment_instant(k, step_s, reassign_s) or assigned not in here:
+            assigned = max(here, key=lambda s: here[s][1]) if here else None
+            latched = False
+        if assigned is None:
+            down[k] = True
+            continue
+        latched = latched or is_blocked(*here[assigned])
+        down[k] = latched
     return down
 
 
-@pytest.mark.parametrize("reassign_s", [30.0, 60.0, 90.0, 300.0])
-def test_schedule_model_against_plain_loop(tracks, reassign_s):
-    m = HorizonMask.from_points([HorizonPoint(0, 10), HorizonPoint(90, 60), HorizonPoint(200, 20),
-                                 HorizonPoint(300, 45)])
-    blocked = tracks.el_deg < m.elevation_at(tracks.az_deg)
-    assert blocked.any() and not blocked.all()
-    np.testing.assert_array_equal(schedule_down(tracks, blocked, reassign_s),
-                                  brute_force_down(tracks, blocked, reassign_s))
+def wall_60(az, el):
+    """A 60-degree wall over 120..240 deg, with 0.001-degree ramps either side (the
+    mask below), by hand."""
+    if 120.0 <= az <= 240.0:
+        return el < 60.0
+    if 119.999 < az < 120.0:
+        return el < 60.0 * (az - 119.999) / 0.001
+    if 240.0 < az < 240.001:
+        return el < 60.0 * (240.001 - az) / 0.001
+    return False
 
 
-def test_longer_reassignment_never_helps(tracks):
-    m = half_plane_wall()
-    values = [assess(tracks, m, schedule=Schedule(r)).interruption for r in (30, 60, 120, 600)]
-    assert values == sorted(values)
+def wall_60_mask():
+    return HorizonMask.from_points([HorizonPoint(0, 0), HorizonPoint(119.999, 0), HorizonPoint(120, 60),
+                                    HorizonPoint(240, 60), HorizonPoint(240.001, 0)])
+
+
+@pytest.mark.parametrize("reassign_s", [15.0, 60.0, 300.0])
+def test_clear_sky_interruption_is_the_time_with_nothing_in_view(tracks, reference, reassign_s):
+    """With nothing blocked, a satellite that sets is handed over at once, so the
+    link is down only when no satellite at all is usable, whatever reassign_s is."""
+    a = assess(tracks, HorizonMask.clear(), schedule=Schedule(reassign_s))
+    covered = np.zeros(WINDOW.count, bool)
+    covered[reference[1]] = True  # times with a usable satellite, from skyfield
+    assert a.interruption == pytest.approx(1.0 - covered.mean(), abs=1e-12)
+    assert 0.0 < a.interruption < 0.5  # the sparse shell leaves gaps, but not many
+    np.testing.assert_array_equal(a.down, ~covered)
+
+
+@pytest.mark.parametrize("reassign_s", [15.0, 45.0, 60.0, 300.0])
+def test_wall_interruption_and_outages_against_a_plain_loop(tracks, reference, reassign_s):
+    a = assess(tracks, wall_60_mask(), schedule=Schedule(reassign_s))
+    down = plain_loop_down(reference, WINDOW.count, WINDOW.step_s, reassign_s, wall_60)
+    assert 0.0 < down.mean() < 1.0 and a.blocked_samples > 0
+    assert a.interruption == pytest.approx(down.mean(), abs=1e-12)
+    # Outages per day: runs of down samples, counted by hand.
+    n_runs = int(down[0]) + int(np.count_nonzero(down[1:] & ~down[:-1]))
+    days = WINDOW.count * WINDOW.step_s / 86400.0
+    assert a.outage_summary(tracks)["count_per_day"] == pytest.approx(n_runs / days)
+    np.testing.assert_array_equal(a.down, down)
+
+
+@pytest.mark.parametrize("reassign_s", [30.0, 90.0])
+def test_schedule_model_against_plain_loop_on_a_rough_horizon(tracks, reference, reassign_s):
+    knots = np.array([[0, 10], [90, 60], [200, 20], [300, 45], [360, 10]], float)
+    m = HorizonMask.from_points([HorizonPoint(a, e) for a, e in knots[:-1]])
+    down = plain_loop_down(reference, WINDOW.count, WINDOW.step_s, reassign_s,
+                           lambda az, el: el < np.interp(az, knots[:, 0], knots[:, 1]))
+    got = schedule_down(tracks, m.elevation_at(tracks.az_deg) > tracks.el_deg, reassign_s)
+    np.testing.assert_array_equal(got, down)
+
+
+random_masks = st.lists(st.tuples(st.floats(0, 359.9), st.floats(0, 90)), min_size=1, max_size=8,
+                        unique_by=lambda p: round(p[0], 2))
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(random_masks, st.floats(0, 30), st.sampled_from([15.0, 30.0, 45.0, 120.0, 300.0]))
+def test_what_the_schedule_model_guarantees(tracks, pts, raise_by, reassign_s):
+    """Properties the model guarantees for any mask and period: the link is down
+    whenever no usable satellite is unblocked (so interruption >= 1 - availability);
+    raising the mask never brings a down sample back up (the assignment is blind
+    to the mask); with a reassignment at every sample the link is down exactly when
+    the highest usable satellite is blocked or there is none.  Each blocked sample
+    counts for one sector, so the sector shares sum to 1."""
+    low = HorizonMask.from_points([HorizonPoint(a, e) for a, e in pts])
+    high = HorizonMask.from_points([HorizonPoint(a, min(e + raise_by, 90)) for a, e in pts])
+    a_low = assess(tracks, low, schedule=Schedule(reassign_s))
+    a_high = assess(tracks, high, schedule=Schedule(reassign_s))
+    assert a_low.interruption >= 1.0 - a_low.availability - 1e-12
+    assert not np.any(a_low.down & ~a_high.down)
+    assert a_high.interruption >= a_low.interruption
+    for a in (a_low, a_high):
+        shares = sum(s.blocked_share for s in a.sectors)
+        assert shares == pytest.approx(1.0 if a.blocked_samples else 0.0)
+        for s in a.sectors:
+            assert s.blocked_fraction_if_cleared <= a.blocked_fraction + 1e-12
+    # Every sample a reassignment instant (reassign_s no longer than the step).
+    each = assess(tracks, low, schedule=Schedule(WINDOW.step_s))
+    highest = {}
+    for j in range(len(tracks)):
+        k = int(tracks.time_index[j])
+        if k not in highest or tracks.el_deg[j] > tracks.el_deg[highest[k]]:
+            highest[k] = j
+    expect = np.ones(WINDOW.count, bool)
+    for k, j in highest.items():
+        expect[k] = bool(each.blocked[j])
+    np.testing.assert_array_equal(each.down, expect)
 
 
 def test_outage_runs_by_hand():
@@ -134,21 +224,32 @@ def test_outage_runs_by_hand():
     assert runs(np.zeros(4, bool)) == []
 
 
+MILL_BARN = [(0, 0), (40, 50), (80, 0), (180, 0), (220, 35), (260, 0)]
+
+
 def test_sectors_and_what_if_cleared(tracks, reference):
     m = HorizonMask.from_points([HorizonPoint(0, 0), HorizonPoint(40, 50, None, "mill"), HorizonPoint(80, 0),
                                  HorizonPoint(180, 0), HorizonPoint(220, 35, None, "barn"), HorizonPoint(260, 0)])
     a = assess(tracks, m)
     assert {s.labels for s in a.sectors} == {("mill",), ("barn",)}
     assert sum(s.blocked_share for s in a.sectors) == pytest.approx(1.0)
-    _, _, az, el = reference
-    blocked = el < m.elevation_at(az)
-    for s in a.sectors:
-        # Independent re-assessment with that sector's mask set to zero.
-        cleared = blocked & ~in_sector(az, s.from_deg, s.to_deg)
-        assert s.blocked_fraction_if_cleared == pytest.approx(cleared.sum() / az.size, abs=1 / az.size)
-    # Hand-worked crossings of 25 deg: 0->50 over 0..40 gives 20; 50->0 over 40..80 gives 60.
+    # Hand-worked crossings of 25 deg: 0->50 over 0..40 gives 20; 50->0 over 40..80
+    # gives 60; 0->35 over 180..220 gives 180 + 40*25/35; 35->0 over 220..260 gives
+    # 220 + 40*10/35.
     mill = next(s for s in a.sectors if s.labels == ("mill",))
+    barn = next(s for s in a.sectors if s.labels == ("barn",))
     assert (mill.from_deg, mill.to_deg) == pytest.approx((20.0, 60.0))
+    assert (barn.from_deg, barn.to_deg) == pytest.approx((180 + 40 * 25 / 35, 220 + 40 * 10 / 35))
+    # Independent re-assessment from skyfield's positions: the hand-written knots
+    # with that obstruction's reading set to 0, interpolated with numpy.
+    _, _, az, el = reference
+    for sec, drop in ((mill, 1), (barn, 4)):
+        knots = np.array(MILL_BARN + [(360, 0)], float)
+        knots[drop, 1] = 0.0
+        blocked = el < np.interp(az, knots[:, 0], knots[:, 1])
+        assert sec.blocked_fraction_if_cleared == pytest.approx(blocked.sum() / az.size, abs=1e-12)
+    everything = el < np.interp(az, *np.array(MILL_BARN + [(360, 0)], float).T)
+    assert mill.blocked_samples + barn.blocked_samples == everything.sum() == a.blocked_samples
 
 
 def test_magnetic_and_true_bearings_differ_by_the_declination(write_site):

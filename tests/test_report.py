@@ -17,7 +17,7 @@ from pypdf import PdfReader
 
 from survey.assess import assess
 from survey.cli import main
-from survey.horizon import HorizonMask, in_sector
+from survey.horizon import HorizonMask
 from survey.pipeline import FleetChoice, run_site
 from survey.report import load_report_inputs, recommendations, render_report, write_report
 from survey.site import load_site
@@ -57,7 +57,7 @@ def test_pdf_is_text_with_the_verdict_and_blocked_fraction(runs, demo, paper):
     for heading in ("Sky view", "Obstructions, costliest first", "Drop-outs over the window", "Measured horizon",
                     "Method and sources", "Safety", "Sign-off", "SGP4", "WMM2025", "Not modelled"):
         assert heading in flat
-    assert "fall protection" in flat and "power lines" in flat  # DESIGN.md's safety note
+    assert "fall protection" in flat and "power lines" in flat  # DEVELOPERS "Safety"
     assert 2 <= len(reader.pages) <= 5  # "at most a few pages"
     w, h = PAGE_PT[paper]
     for page in reader.pages:
@@ -196,28 +196,56 @@ def test_json_from_an_element_file_carries_the_elements(tmp_path, write_site):
     assert again.assessment.usable_samples == run.assessment.usable_samples > 0
 
 
-def test_what_if_cleared_matches_an_independent_reassessment(runs):
-    """Each recommendation re-assessed from scratch: the mask sampled densely with
-    np.interp, zeroed over the sector, and every usable sample recounted."""
-    run = runs["alder-brook-farm"]
+WRAP_AND_BARN = [(350, 0, ""), (10, 40, "oak"), (180, 0, ""), (200, 0, ""), (230, 50, "barn shed"), (260, 0, "")]
+
+
+def test_what_if_cleared_matches_an_independent_reassessment(write_site):
+    """Each recommendation re-assessed from scratch on a horizon whose first sector
+    rises after the last reading and crosses north (README, "What the figures
+    mean"): the hand-written readings with that obstruction's reading set to 0,
+    interpolated with numpy, every usable sample recounted, and the link counted
+    by the plain loop of the scheduling rule (test_metrics)."""
+    from .test_metrics import plain_loop_down
+
+    pts = ", ".join(f'[{a}, {e}, "{lbl}"]' if lbl else f"[{a}, {e}]" for a, e, lbl in WRAP_AND_BARN)
+    site = load_site(write_site(MINIMAL_SITE + f'\n[horizon]\nreference = "true"\npoints = [{pts}]\n'))
+    run = run_site(site, hours=6, step_s=30)
+    a, t = run.assessment, run.tracks
+    # Sector bounds by hand: the oak rises 0 -> 40 over 350..10 and passes 25 deg at
+    # 350 + 20*25/40 = 2.5, falls 40 -> 0 over 10..180 and passes it at
+    # 10 + 170*15/40 = 73.75; the barn passes it at 200 + 30*25/50 and 230 + 30*25/50.
+    bounds = {s.labels: (s.from_deg, s.to_deg) for s in a.sectors}
+    assert bounds[("oak",)] == pytest.approx((2.5, 73.75))
+    assert bounds[("barn shed",)] == pytest.approx((215.0, 245.0))
+    assert len(a.sectors) == 2 and sum(s.blocked_share for s in a.sectors) == pytest.approx(1.0)
     recs = recommendations(run)
-    assert recs, "the demo site's alders and barn should give advice"
-    t = run.tracks
-    knots_az, knots_el = run.mask.az_deg, run.mask.el_deg
+    assert len(recs) == 2 and not any("2.5°-2.5°" in r["text"] or "2.5°–2.5°" in r["text"] for r in recs)
+    readings = sorted(WRAP_AND_BARN)
+    az = np.array([x[0] for x in readings], float)
     for rec in recs:
-        # Independent: interpolate the original knots ourselves, then zero the sector.
-        xp = np.concatenate([knots_az - 360, knots_az, knots_az + 360])
-        fp = np.concatenate([knots_el] * 3)
-        mask_at_sample = np.interp(t.az_deg.astype(np.float64), xp, fp)
-        inside = in_sector(t.az_deg, rec["from_deg"], rec["to_deg"])
-        mask_at_sample[inside] = 0.0
-        blocked = t.el_deg < mask_at_sample
-        assert rec["blocked_fraction"] == pytest.approx(blocked.sum() / len(t), abs=2e-4)
-        # And the sector table's own "if cleared" figure says the same.
-        sec = next(s for s in run.assessment.sectors if round(s.from_deg, 2) == rec["from_deg"])
+        sec = next(s for s in a.sectors if round(s.from_deg, 2) == rec["from_deg"])
+        el = np.array([0.0 if lbl and lbl in sec.labels else e for _, e, lbl in readings])
+        xp, fp = np.concatenate([az - 360, az, az + 360]), np.concatenate([el] * 3)
+
+        def is_blocked(azimuth, elevation):
+            return float(elevation) < np.interp(float(azimuth) % 360.0, xp, fp)
+
+        blocked = np.array([is_blocked(x, e) for x, e in zip(t.az_deg, t.el_deg)])
+        assert rec["blocked_fraction"] == pytest.approx(blocked.sum() / len(t), abs=1e-12)
+        down = plain_loop_down((t.sat, t.time_index, t.az_deg, t.el_deg), t.count, t.window.step_s,
+                               site.schedule.reassign_s, is_blocked)
+        assert rec["interruption"] == pytest.approx(down.mean(), abs=1e-12)
+        # The sector table's own "if cleared" figure says the same, and so does assess.
         assert sec.blocked_fraction_if_cleared == pytest.approx(rec["blocked_fraction"], abs=1e-12)
-        assert rec["blocked_fraction"] < run.assessment.blocked_fraction
+        assert 0 < rec["blocked_fraction"] < a.blocked_fraction
         assert f"{100 * rec['blocked_fraction']:.1f} %" in rec["text"]
+
+
+def test_demo_advice_agrees_with_the_sector_table(runs):
+    for run in runs.values():
+        for rec in recommendations(run):
+            sec = next(s for s in run.assessment.sectors if round(s.from_deg, 2) == rec["from_deg"])
+            assert sec.blocked_fraction_if_cleared == pytest.approx(rec["blocked_fraction"], abs=1e-12)
 
 
 def test_the_spot_section_says_what_the_ranking_says(runs):
@@ -240,7 +268,7 @@ def test_clearing_every_sector_leaves_a_clear_sky(runs):
     run = runs["mill-lane-terrace"]
     mask = run.mask
     for sec in run.assessment.sectors:
-        mask = mask.with_sector_cleared(sec.from_deg, sec.to_deg if sec.to_deg != 360.0 else sec.from_deg)
+        mask = mask.with_sector_cleared(sec.from_deg, sec.to_deg)
     assert assess(run.tracks, mask).blocked_samples == 0
     assert assess(run.tracks, HorizonMask.clear()).blocked_samples == 0
 
@@ -314,7 +342,7 @@ def test_pdf_sets_names_outside_latin1_readably(write_site):
 
 
 def test_every_report_carries_the_safety_note_for_its_mount(runs, write_site):
-    """DESIGN.md "Safety and cautions": fall protection, ladders, power lines, weather,
+    """DEVELOPERS "Safety": fall protection, ladders, power lines, weather,
     grounding and bonding, deferring to local codes; vessels get radar and rigging."""
     from survey.safety import notes_for
 

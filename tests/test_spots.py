@@ -31,7 +31,7 @@ from survey.spots import (
 )
 
 from .conftest import DEMO, MINIMAL_SITE, START
-from .test_metrics import brute_force_down
+from .test_metrics import plain_loop_down
 
 SHELLS = """\
 [[shell]]
@@ -122,30 +122,91 @@ def test_ranking_order_and_json_contract(run):
     assert d["over_time"] == [] and d["years"] == 0.0
 
 
-def test_one_candidate_against_an_independent_recount(run):
-    """The yard pole's figures at 2 m recounted from scratch: its derived horizon from
-    plan.py, the far points' mask by np.interp, the tracks compared sample by
-    sample in a plain loop, the scheduling model as the plain loop of test_metrics."""
-    site, tracks = run.site, run.tracks
+HAND_PLAN = """
+[horizon]
+reference = "true"
+points = [[0, 5], [90, 35], [200, 8], [300, 30]]
+
+[schedule]
+reassign_s = 60
+
+[[plan.prism]]
+name = "shed"
+polygon = [[-12, -10], [-6, -10], [-6, 2], [-12, 2]]
+height_m = 9.0
+[[plan.tree]]
+name = "spruce"
+at = [4, -14]
+crown_radius_m = 3.0
+height_m = 11.0
+[[plan.pole]]
+name = "yard pole"
+at = [3, -6]
+min_height_m = 2.0
+max_height_m = 4.0
+"""
+
+
+def hand_horizon(e0, n0, z):
+    """The horizon at (e0, n0, z) by hand trigonometry, at each whole degree: a flat
+    roof is highest where the ray first meets a wall (atan((h - z)/s) falls with s
+    along a flat top), a cylinder crown where the ray first meets its circle."""
+    shed = [(-12, -10), (-6, -10), (-6, 2), (-12, 2)]
+    out = np.zeros(360)
+    for k in range(360):
+        dx, dy = math.sin(math.radians(k)), math.cos(math.radians(k))
+        best = 0.0
+        for (ax, ay), (bx, by) in zip(shed, shed[1:] + shed[:1]):
+            # Solve P + s*d = A + u*(B - A) for s >= 0, 0 <= u <= 1 (Cramer's rule).
+            ex, ey = bx - ax, by - ay
+            det = dx * (-ey) - dy * (-ex)
+            if abs(det) < 1e-12:
+                continue
+            rx, ry = ax - e0, ay - n0
+            s_ = (rx * (-ey) - ry * (-ex)) / det
+            u = (dx * ry - dy * rx) / det
+            if s_ > 0 and 0 <= u <= 1:
+                best = max(best, math.degrees(math.atan2(9.0 - z, s_)))
+        cx, cy, r = 4 - e0, -14 - n0, 3.0
+        along = cx * dx + cy * dy
+        perp2 = cx * cx + cy * cy - along * along
+        if along > 0 and perp2 <= r * r:
+            s_ = along - math.sqrt(r * r - perp2)
+            best = max(best, math.degrees(math.atan2(11.0 - z, s_)))
+        out[k] = best
+    return out
+
+
+def test_one_candidate_against_an_independent_recount(tmp_path):
+    """The yard pole's figures at 2 m recounted from scratch: its horizon by hand
+    trigonometry (hand_horizon), raised to the far points' mask by np.interp, the
+    tracks compared sample by sample in a plain loop, the scheduling model as the
+    plain loop of test_metrics."""
+    (tmp_path / "shells.toml").write_text(SHELLS)
+    (tmp_path / "site.toml").write_text(textwrap.dedent(MINIMAL_SITE) + HAND_PLAN)
+    run = run_site(load_site(tmp_path / "site.toml"), FleetChoice(shells=tmp_path / "shells.toml"),
+                   start=START, hours=4, step_s=30)
+    tracks = run.tracks
     cand = next(r for r in rank_spots(run).results
                 if r.candidate.name == "yard pole" and r.candidate.height_m == 2.0)
-    skylines, far = measured_obstacles(site.horizon.points, site.mount.height_m)
-    near = derived_horizon(site.plan.with_skylines(skylines), 3.0, -6.0, 2.0)
-    far_az = [p.azimuth_deg for p in far]
-    far_el = [p.elevation_deg for p in far]
+    near = hand_horizon(3.0, -6.0, 2.0)
+    assert near[180] > 20 and near[270] > 10 and near[0] == 0.0  # the tree south, the shed west
+    far_az, far_el = [0, 90, 200, 300], [5, 35, 8, 30]
     fx = [a - 360 for a in far_az] + far_az + [a + 360 for a in far_az]
     mask = [max(near[k], float(np.interp(k, fx, far_el * 3))) for k in range(360)]
     xp, fp = list(range(-360, 720)), mask * 3
-    blocked = np.zeros(len(tracks), bool)
-    clear_at = set()
-    for j in range(len(tracks)):
-        blocked[j] = float(tracks.el_deg[j]) < np.interp(float(tracks.az_deg[j]) % 360.0, xp, fp)
-        if not blocked[j]:
-            clear_at.add(int(tracks.time_index[j]))
+
+    def is_blocked(az, el):
+        return float(el) < np.interp(float(az) % 360.0, xp, fp)
+
+    blocked = np.array([is_blocked(a, e) for a, e in zip(tracks.az_deg, tracks.el_deg)])
+    clear_at = {int(k) for k, b in zip(tracks.time_index, blocked) if not b}
     assert 100 < blocked.sum() < blocked.size - 100  # a case where the count matters
     assert cand.blocked_fraction == blocked.sum() / len(tracks)
     assert cand.availability == pytest.approx(len(clear_at) / tracks.count, abs=1e-15)
-    down = brute_force_down(tracks, blocked, site.schedule.reassign_s)
+    samples = (tracks.sat, tracks.time_index, tracks.az_deg, tracks.el_deg)
+    down = plain_loop_down(samples, tracks.count, tracks.window.step_s, run.site.schedule.reassign_s,
+                           is_blocked)
     assert cand.interruption == pytest.approx(down.mean(), abs=1e-15)
 
 

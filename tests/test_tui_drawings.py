@@ -1,7 +1,7 @@
 """The text UI's terminal drawings (tui/widgets): exact sizes, monochrome output
 without styles, and geometry against values worked out by hand here.
 
-Conventions checked (DESIGN.md, survey/render.py): north up, east right,
+Conventions checked (survey/render.py): north up, east right,
 azimuth clockwise; sky radius linear in zenith distance; terminal cells twice as
 tall as wide (1:2), so a round circle spans 2n columns and n rows from its
 centre and the plan keeps one scale east and north."""

@@ -42,7 +42,7 @@ def _gutter(width: int) -> int:
 
 def strip_counts(down, step_s: float) -> tuple[int, float, float]:
     """(drop-outs, total down seconds, longest drop-out seconds) of a ``down``
-    array: a drop-out is a run of consecutive down samples (DESIGN.md)."""
+    array: a drop-out is a run of consecutive down samples (README, "What the figures mean")."""
     d = np.diff(np.concatenate([[0], np.asarray(down, dtype=np.int8), [0]]))
     a, b = np.flatnonzero(d == 1), np.flatnonzero(d == -1)
     total = float(np.count_nonzero(down)) * step_s
