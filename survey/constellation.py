@@ -27,6 +27,9 @@ MU_KM3_S2 = 398600.4418  # WGS84 Earth gravitational parameter (NIMA TR8350.2)
 EARTH_RADIUS_KM = 6378.137  # WGS84 equatorial radius
 JD_1949_DEC_31 = 2433281.5  # SGP4's epoch origin (days since 1949 Dec 31 00:00 UT)
 STALE_AFTER_DAYS = 14.0  # common practice: TLE accuracy degrades over days
+J2 = 1.08263e-3  # Earth's second zonal harmonic, WGS-84/EGM value (Vallado, Fundamentals of Astrodynamics, table D-1)
+TROPICAL_YEAR_S = 365.2421897 * 86400.0  # mean tropical year (the Sun's mean motion in right ascension)
+SUN_SYNCHRONOUS = "sun-synchronous"  # a shell file's inclination_deg may say this instead of a number
 
 
 @dataclass(frozen=True)
@@ -110,6 +113,20 @@ def kepler_mean_motion_rad_s(altitude_km: float) -> float:
     return math.sqrt(MU_KM3_S2 / a**3)
 
 
+def sun_synchronous_inclination_deg(altitude_km: float) -> float:
+    """Inclination (degrees) at which a circular orbit's node precesses eastward
+    by 360 degrees a tropical year, keeping its plane at one local solar time.
+    The secular J2 nodal rate of a circular orbit (Vallado, *Fundamentals of
+    Astrodynamics and Applications*, section 9.6) is
+    dOmega/dt = -(3/2) n J2 (R/a)^2 cos i, so cos i = -(2 pi / year) / ((3/2) n J2 (R/a)^2)."""
+    a = EARTH_RADIUS_KM + altitude_km
+    n = kepler_mean_motion_rad_s(altitude_km)
+    cos_i = -(2.0 * math.pi / TROPICAL_YEAR_S) / (1.5 * n * J2 * (EARTH_RADIUS_KM / a) ** 2)
+    if cos_i < -1.0:
+        raise ValueError(f"no sun-synchronous orbit at {altitude_km:g} km (the node cannot precess fast enough)")
+    return math.degrees(math.acos(cos_i))
+
+
 def walker_fleet(shells: list[Shell], epoch: datetime, source: str, illustrative: bool = False) -> Fleet:
     """Element sets for Walker shells, circular orbits with the window start as epoch."""
     jd = julian_date_utc(epoch)
@@ -155,7 +172,10 @@ def parse_shells(text: str, where: str) -> list[Shell]:
         t = Table(raw_shell, f"shell[{i}]", problems, known)
         name = t.text("name", f"shell-{i + 1}")
         alt = t.number("altitude_km", None, 150, 3000, required=True)
-        inc = t.number("inclination_deg", None, 0, 180, required=True)
+        if raw_shell.get("inclination_deg") == SUN_SYNCHRONOUS and alt is not None:
+            inc = sun_synchronous_inclination_deg(alt)  # altitude <= 3000 km: always possible
+        else:
+            inc = t.number("inclination_deg", None, 0, 180, required=True)
         planes = t.number("planes", None, 1, 1000, required=True, integer=True)
         per = t.number("per_plane", None, 1, 1000, required=True, integer=True)
         phasing = t.number("phasing", 0, 0, 10**6, integer=True)

@@ -12,7 +12,7 @@ interruption under the site's scheduling model.
 The sky tracks are computed once, at the site point, and reused for every
 candidate.  A candidate offset by d metres sees a satellite at range r from a
 direction that differs by at most d / r radians, and r is never less than the
-orbit altitude (300 km or more for LEO broadband shells; 545 km for the embedded
+orbit altitude (300 km or more for LEO broadband shells; 505 km for the embedded
 shells): 30 m of offset moves a satellite by at most 0.0057 degrees, far below
 the 0.01 degrees the tracks are held to.  A candidate more than FAR_WARNING_M
 from the site point (up to 0.04 degrees at 300 km) is warned about: assess it as

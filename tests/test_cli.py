@@ -33,7 +33,7 @@ def test_json_has_the_contract_keys(capsys):
     assert d["site"]["name"] == "Alder Brook farmhouse"
     assert d["site"]["latitude"] == 45.3182 and d["site"]["longitude"] == -72.6415
     assert d["window"] == {"start": "2026-06-01T00:00:00Z", "hours": 2.0, "step_s": 30.0, "samples": 240}
-    assert d["satellites"] == 1752 and d["fleet"]["illustrative"] is True
+    assert d["satellites"] == 1720 and d["fleet"]["illustrative"] is True
     for key in ("blocked_fraction", "availability", "interruption"):
         assert 0.0 <= d[key] <= 1.0
     assert set(d["outages"]) >= {"count_per_day", "minutes_per_day", "longest_s", "events"}

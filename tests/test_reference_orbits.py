@@ -118,7 +118,7 @@ def test_kepler_mean_motion(altitude_km):
         assert TWO_PI / n / 60.0 == pytest.approx(95.65, abs=0.01)
 
 
-@pytest.mark.parametrize("altitude_km, inclination_deg", [(550.0, 53.0), (560.0, 97.6), (1200.0, 87.9)])
+@pytest.mark.parametrize("altitude_km, inclination_deg", [(505.0, 49.5), (745.0, 98.4), (1150.0, 72.0)])
 def test_nodal_period_matches_kepler(altitude_km, inclination_deg):
     """Mean time between ascending-node crossings over ~10 orbits vs Kepler's
     third law.  SGP4 includes J2: the nodal (draconic) period differs from the
@@ -160,7 +160,7 @@ def measured_node_rate_deg_day(sat, days=5.0):
     return np.degrees(np.polyfit(minutes / 1440.0, node, 1)[0])
 
 
-@pytest.mark.parametrize("altitude_km, inclination_deg", [(550.0, 53.0), (560.0, 97.6), (1200.0, 70.0)])
+@pytest.mark.parametrize("altitude_km, inclination_deg", [(505.0, 49.5), (745.0, 98.4), (1200.0, 70.0)])
 def test_node_drift_matches_j2_formula(altitude_km, inclination_deg):
     measured = measured_node_rate_deg_day(single(altitude_km, inclination_deg))
     expected = j2_node_rate_deg_day(altitude_km, inclination_deg)
@@ -169,19 +169,63 @@ def test_node_drift_matches_j2_formula(altitude_km, inclination_deg):
     assert math.copysign(1, measured) == -math.copysign(1, math.cos(math.radians(inclination_deg)))
 
 
-def test_97_6_deg_shell_is_sun_synchronous_like():
-    # 53 deg at 550 km regresses ~ -4.5 deg/day (hand computation with the
-    # formula); 97.6 deg at 560 km precesses eastward at the Sun's mean rate
-    # 360/365.2422 = 0.9856 deg/day (sun-synchronous; from memory).
-    assert j2_node_rate_deg_day(550.0, 53.0) == pytest.approx(-4.49, abs=0.01)
-    measured = measured_node_rate_deg_day(single(560.0, 97.6))
-    assert measured == pytest.approx(SIDEREAL_YEAR_RATE, rel=0.05)
+def sun_synchronous_inclination_by_hand(altitude_km):
+    """Vallado's J2 nodal precession condition solved for i: the node must move
+    east 360 deg a tropical year, so cos i = -rate / ((3/2) n J2 (R/a)^2)."""
+    a = R_EQ + altitude_km
+    n = math.sqrt(MU / a**3)
+    rate = math.radians(360.0 / 365.2422) / 86400.0
+    return math.degrees(math.acos(-rate / (1.5 * n * J2 * (R_EQ / a) ** 2)))
+
+
+@pytest.mark.parametrize("altitude_km", [400.0, 745.0, 800.0, 1500.0, 3000.0])
+def test_sun_synchronous_inclination_formula(altitude_km):
+    from survey.constellation import sun_synchronous_inclination_deg
+
+    assert sun_synchronous_inclination_deg(altitude_km) == pytest.approx(
+        sun_synchronous_inclination_by_hand(altitude_km), abs=1e-4)
+
+
+def test_sun_synchronous_worked_values():
+    # Worked with the formula (J2 = 1.08263e-3, WGS-84 R and mu): 98.60 deg at
+    # 800 km; about 97.4 deg at 500 km and 98.6 deg at 800 km are the usual
+    # textbook figures (from memory).
+    assert sun_synchronous_inclination_by_hand(800.0) == pytest.approx(98.60, abs=0.01)
+    assert sun_synchronous_inclination_by_hand(500.0) == pytest.approx(97.40, abs=0.01)
+
+
+def test_embedded_sun_synchronous_shell_precesses_with_the_sun():
+    """The embedded shell that says "sun-synchronous" gets the formula's
+    inclination, and SGP4 (not the formula) moves its node east at the Sun's
+    mean rate, 360/365.2422 = 0.9856 deg/day (from memory)."""
+    from survey.constellation import default_fleet, parse_shells
+    from importlib import resources
+
+    text = resources.files("survey.data").joinpath("illustrative_shells.toml").read_text("utf-8")
+    assert 'inclination_deg = "sun-synchronous"' in text
+    (sso,) = [s for s in parse_shells(text, "embedded") if s.inclination_deg > 90]
+    assert sso.inclination_deg == pytest.approx(sun_synchronous_inclination_by_hand(sso.altitude_km), abs=1e-4)
+    fleet = default_fleet(EPOCH)
+    i = fleet.group.index(sso.name)
+    assert math.degrees(fleet.satrecs[i].inclo) == pytest.approx(sso.inclination_deg, abs=1e-9)
+    measured = measured_node_rate_deg_day(fleet.satrecs[i])
+    assert measured == pytest.approx(SIDEREAL_YEAR_RATE, rel=0.02)
+    # A regressing shell for contrast: 49.5 deg at 505 km moves west, about
+    # -5.0 deg/day by the formula.
+    assert j2_node_rate_deg_day(505.0, 49.5) < -4.5
+
+
+def test_no_sun_synchronous_orbit_too_high():
+    from survey.constellation import sun_synchronous_inclination_deg
+
+    with pytest.raises(ValueError):
+        sun_synchronous_inclination_deg(8000.0)  # cos i would be below -1
 
 
 # -------------------------------------------------------- highest latitude = i
 
 
-@pytest.mark.parametrize("inclination_deg", [30.0, 53.0, 70.0, 97.6, 120.0])
+@pytest.mark.parametrize("inclination_deg", [30.0, 49.5, 64.5, 98.4, 120.0])
 def test_highest_subsatellite_latitude_is_inclination(inclination_deg):
     sat = single(550.0, inclination_deg)
     minutes = np.arange(0.0, kepler_period_s(550.0) + 5.0, 2.0) / 60.0

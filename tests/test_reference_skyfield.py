@@ -268,7 +268,7 @@ def test_tle_path_matches_skyfield():
     assert total == len(tracks)
 
 
-@pytest.mark.parametrize("chunk_points", [20_000, 1752 * 100])
+@pytest.mark.parametrize("chunk_points", [20_000, 1720 * 100])
 def test_chunked_windows_match_skyfield(monkeypatch, chunk_points):
     # Long windows are cut into chunks that share their end samples; force many
     # chunks (32 and 96 samples long) so every chunk boundary is exercised.
