@@ -77,14 +77,21 @@ def build_parser() -> argparse.ArgumentParser:
 def _add_run_options(p) -> None:
     """The fleet and window options every command that assesses a site takes."""
     fleet = p.add_mutually_exclusive_group()
-    fleet.add_argument("--shells", metavar="FILE", type=Path, help="Walker shell file (TOML)")
+    fleet.add_argument("--shells", metavar="FILE", type=Path,
+                       help="Walker shell file (TOML); with neither --shells nor --tle, leosite's own "
+                            "illustrative shells")
     fleet.add_argument("--tle", metavar="FILE", type=Path,
                        help="element sets: TLE (2- or 3-line) or CCSDS OMM (XML, CSV, JSON)")
-    p.add_argument("--start", metavar="ISO", help="window start, UTC, e.g. 2026-06-01T00:00:00Z")
-    p.add_argument("--hours", metavar="H", type=float, help="window length in hours (default 24)")
-    p.add_argument("--step", metavar="S", type=float, help="sample step in seconds (default 15)")
+    p.add_argument("--start", metavar="ISO",
+                   help="window start, UTC, e.g. 2026-06-01T00:00:00Z; this flag, else the site's [window] "
+                        "start, else today 00:00 UTC")
+    p.add_argument("--hours", metavar="H", type=float,
+                   help="window length in hours; this flag, else the site's [window] hours, else 24")
+    p.add_argument("--step", metavar="S", type=float,
+                   help="sample step in seconds; this flag, else the site's [window] step_s, else 15")
     p.add_argument("--min-elevation", metavar="DEG", type=float,
-                   help="override the terminal's minimum elevation")
+                   help="minimum elevation in degrees; this flag, else the site's [terminal] "
+                        "min_elevation_deg, else 25")
 
 
 def _folder_of(path: Path) -> Path:

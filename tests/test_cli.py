@@ -264,3 +264,21 @@ def test_moving_mounts_are_flagged_and_get_their_own_caution(kind, caution, writ
     assert code == 0
     assert f"mount kind '{kind}': heading, roll and route are not modelled yet" in " ".join(out.split())
     assert caution in " ".join(out.split())
+
+
+@pytest.mark.parametrize("command", ["assess", "report", "spots", "horizon"])
+def test_window_options_state_the_precedence_rule(command, capsys):
+    """README "Using it from the command line": the flag, else the site's
+    [window] (or [terminal]), else the default; the help must say so."""
+    with pytest.raises(SystemExit):
+        main([command, "--help"])
+    text = " ".join(capsys.readouterr().out.split())
+    for option, table_key, default in (("--start", "[window] start", "today 00:00 UTC"),
+                                       ("--hours", "[window] hours", "else 24"),
+                                       ("--step", "[window] step_s", "else 15"),
+                                       ("--min-elevation", "[terminal] min_elevation_deg", "else 25")):
+        if option not in text:
+            continue
+        part = text.split(f"{option} ", 2)[-1].split(" --", 1)[0]
+        assert "this flag, else the site's " + table_key in part and default in part, (option, part)
+    assert "(default 24)" not in text
