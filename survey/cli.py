@@ -17,7 +17,8 @@ from . import __version__
 from .errors import InputError, Problems
 from .fileio import atomic_write_bytes
 from .pipeline import FleetChoice, SiteRun, mount_text, result_dict, run_site
-from .report import format_for, load_report_inputs, pct, write_report
+from .report import format_for, load_report_inputs, write_report
+from .words import NBSP, azimuth_span, duration, elevation, length, pct
 from .safety import short_note, spot_note
 from .site import load_site, parse_time
 
@@ -92,6 +93,13 @@ def _add_run_options(p) -> None:
     p.add_argument("--min-elevation", metavar="DEG", type=float,
                    help="minimum elevation in degrees; this flag, else the site's [terminal] "
                         "min_elevation_deg, else 25")
+
+
+def _for_terminal(text: str) -> str:
+    """Text for the terminal: the no-break spaces that keep a number with its unit
+    in a document (words.py) become plain spaces, so the output greps and pastes
+    as typed; the summary is wrapped before this, never at a number."""
+    return text.replace(NBSP, " ")
 
 
 def _folder_of(path: Path) -> Path:
@@ -185,9 +193,9 @@ def format_summary(run: SiteRun) -> str:
         "",
         f"  blocked        {pct(a.blocked_fraction, 2):>9}  of usable sky samples",
         f"  availability   {pct(a.availability, 2):>9}  of the time an unblocked satellite is in view",
-        f"  interruption   {pct(a.interruption, 2):>9}  of the time down (reassigned every {s.schedule.reassign_s:g} s)",
+        f"  interruption   {pct(a.interruption, 2):>9}  of the time down (scheduling period {s.schedule.reassign_s:g} s)",
         f"  outages        {o['count_per_day']:.1f} a day, {o['minutes_per_day']:.1f} min a day, "
-        f"longest {o['longest_s']:g} s",
+        f"longest {duration(o['longest_s'])}",
     ]
     if a.sectors:
         lines += ["", "  obstructions, costliest first",
@@ -196,8 +204,8 @@ def format_summary(run: SiteRun) -> str:
             name = ", ".join(sec.labels) or "(unlabelled)"
             if len(name) > 30:
                 name = name[:29] + "…"
-            span = f"{sec.from_deg:5.1f}°-{sec.to_deg:5.1f}°"
-            lines.append(f"    {span:<16} {sec.peak_elevation_deg:4.1f}° {100 * sec.blocked_share:5.1f} % "
+            span = azimuth_span(sec.from_deg, sec.to_deg)
+            lines.append(f"    {span:<16} {elevation(sec.peak_elevation_deg):>5} {pct(sec.blocked_share):>7} "
                          f"{pct(sec.blocked_fraction_if_cleared, 2):>10}  {name}")
         lines.append("    (share of the blocked samples; blocked fraction if that sector were clear)")
     if run.warnings:
@@ -205,7 +213,7 @@ def format_summary(run: SiteRun) -> str:
         for msg in run.warnings:
             lines += _wrap(msg, "    - ", "      ")
     lines += [""] + _wrap(short_note(s.mount.kind), "  ")
-    return "\n".join(lines)
+    return _for_terminal("\n".join(lines))
 
 
 def _wrap(text: str, first: str, rest: str | None = None, width: int = 80) -> list[str]:
@@ -250,7 +258,7 @@ def cmd_report(args) -> int:
     run = _run(args, site, fleet_choice, quiet=False)
     out = write_report(run, args.out, paper=args.paper, fleet_choice=fleet_choice)
     a = run.assessment
-    print(f"{site.name}: {a.verdict}, blocked {pct(a.blocked_fraction, 2)}")
+    print(_for_terminal(f"{site.name}: {a.verdict}, blocked {pct(a.blocked_fraction, 2)}"))
     print(f"report written to {out}")
     return 0
 
@@ -301,18 +309,18 @@ def format_spots(run: SiteRun, ranking) -> str:
     b = ranking.best
     lines = [f"{s.name}: {len(ranking.results):,} candidate spots ranked{grown}",
              f"  survey point  blocked {pct(sp['blocked_fraction'], 2)}, interruption {pct(sp['interruption'], 2)} "
-             f"(measured, {sp['height_m']:g} m up)",
-             f"  BEST  {b.candidate.name} at {b.candidate.height_m:g} m "
-             f"({b.candidate.east_m:.1f} E, {b.candidate.north_m:.1f} N): blocked {pct(b.blocked_fraction, 2)}, "
+             f"(measured, {length(sp['height_m'])} up)",
+             f"  BEST  {b.candidate.name} at {length(b.candidate.height_m)} "
+             f"({length(b.candidate.east_m)} E, {length(b.candidate.north_m)} N): blocked {pct(b.blocked_fraction, 2)}, "
              f"interruption {pct(b.interruption, 2)}", "",
              "  best position of each candidate",
-             f"    {'spot':<22} {'kind':<5} {'east m':>7} {'north m':>7} {'height':>7} {'blocked':>9} "
+             f"    {'spot':<22} {'kind':<5} {'east m':>7} {'north m':>7} {'height m':>8} {'blocked':>9} "
              f"{'interrupt':>9}"]
     best_of_each = ranking.best_of_each()
     for r in best_of_each:
         c = r.candidate
         name = c.name if len(c.name) <= 22 else c.name[:21] + "…"
-        lines.append(f"    {name:<22} {c.kind:<5} {c.east_m:7.1f} {c.north_m:7.1f} {c.height_m:6.2f}m "
+        lines.append(f"    {name:<22} {c.kind:<5} {c.east_m:7.1f} {c.north_m:7.1f} {c.height_m:8.1f} "
                      f"{pct(r.blocked_fraction, 2):>9} {pct(r.interruption, 2):>9}")
     if ranking.poles:
         lines += ["", f"  poles: lowest height with blocked at most {pct(ranking.target_blocked, 2)}"]
@@ -320,11 +328,12 @@ def format_spots(run: SiteRun, ranking) -> str:
             if p.lowest is None:
                 best_here = next(r for r in best_of_each if r.candidate.kind == "pole"
                                  and (r.candidate.east_m, r.candidate.north_m) == (p.east_m, p.north_m))
-                lines.append(f"    {p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): no height reaches it; "
-                             f"best {pct(best_here.blocked_fraction, 2)} at {best_here.candidate.height_m:g} m")
+                lines.append(f"    {p.pole} ({length(p.min_height_m)} to {length(p.max_height_m)}): no height "
+                             f"reaches it; best {pct(best_here.blocked_fraction, 2)} at "
+                             f"{length(best_here.candidate.height_m)}")
             else:
-                lines.append(f"    {p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): "
-                             f"{p.lowest.candidate.height_m:g} m, blocked {pct(p.lowest.blocked_fraction, 2)}")
+                lines.append(f"    {p.pole} ({length(p.min_height_m)} to {length(p.max_height_m)}): "
+                             f"{length(p.lowest.candidate.height_m)}, blocked {pct(p.lowest.blocked_fraction, 2)}")
     if ranking.over_time:
         lines += ["", "  the best spot as the trees grow"]
         cells = [f"{y:g} y {pct(r.blocked_fraction, 2)}" for y, r in ranking.over_time]
@@ -334,7 +343,7 @@ def format_spots(run: SiteRun, ranking) -> str:
         for msg in list(ranking.warnings) + list(run.warnings):
             lines += _wrap(msg, "    - ", "      ")
     lines += [""] + _wrap(spot_note(s.mount.kind), "  ")
-    return "\n".join(lines)
+    return _for_terminal("\n".join(lines))
 
 
 def cmd_spots(args) -> int:

@@ -18,6 +18,7 @@ from .horizon import HorizonMask
 from .magnetic import Declination, declination
 from .site import Site, WindowSpec, resolve_window
 from .tracks import Observer, SkyTracks, compute_tracks
+from .words import length
 
 
 @dataclass(frozen=True)
@@ -203,10 +204,10 @@ def mount_dict(site: Site) -> dict:
 
 def mount_text(site: Site) -> str:
     """The mount in words: kind, antenna height, and where on the plan if placed."""
-    text = (f"{site.mount.kind}, antenna {site.mount.height_m:g} m above "
+    text = (f"{site.mount.kind}, antenna {length(site.mount.height_m)} above "
             + ("deck" if site.mount.kind == "marine" else "ground"))
     if site.mount.at is not None:
-        text += (f", at {site.mount.at[0]:.1f} m E, {site.mount.at[1]:.1f} m N of the site point "
+        text += (f", at {length(site.mount.at[0])} E, {length(site.mount.at[1])} N of the site point "
                  "(horizon derived from the plan)")
     return text
 

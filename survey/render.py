@@ -112,7 +112,7 @@ BLOCKED_LUT = _ramp([
 # Glyphs missing from the built-in font, replaced so they do not print as boxes.
 _GLYPH_FALLBACK = {
     "\u2192": "->", "\u2190": "<-", "\u00d7": "x", "\u2013": "-", "\u2014": "-",
-    "\u2212": "-", "\u2248": "~", "\u00b2": "2", "\u00b5": "u",
+    "\u2212": "-", "\u2248": "~", "\u00b2": "2", "\u00b5": "u", "\u00a0": " ",
 }
 
 

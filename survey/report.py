@@ -32,6 +32,7 @@ from .pipeline import FleetChoice, SiteRun, mount_dict, mount_text, result_dict
 from .plan import plan_tables
 from .safety import notes_for
 from .site import Site, site_from_dict
+from .words import NBSP, azimuth, azimuth_span, coordinates, duration, elevation, length, pct, utc, window
 
 FORMATS = ("pdf", "html", "json")
 PAPERS = ("a4", "letter")
@@ -47,7 +48,7 @@ MAX_OUTAGE_ROWS = 10
 # ---------------------------------------------------------------------------
 def _sector_name(sec: Sector) -> str:
     labels = ", ".join(sec.labels)
-    span = f"{_deg(sec.from_deg)}-{_deg(sec.to_deg)}"
+    span = azimuth_span(sec.from_deg, sec.to_deg)
     return f"the {labels} at {span}" if labels else f"the obstruction at {span}"
 
 
@@ -68,7 +69,7 @@ def recommendations(run: SiteRun) -> list[dict]:
             continue
         b = what_if_cleared(run, sec)
         verb = "Trimming or removing" if _looks_like_vegetation(sec.labels) else "Clearing or mounting above"
-        text = (f"{verb} {_sector_name(sec)} (peak {_deg(sec.peak_elevation_deg)}) would cut blocked time "
+        text = (f"{verb} {_sector_name(sec)} (peak {elevation(sec.peak_elevation_deg)}) would cut blocked time "
                 f"from {pct(a.blocked_fraction)} to {pct(b.blocked_fraction)}")
         if pct(a.interruption) != pct(b.interruption):
             text += f" and interruption from {pct(a.interruption)} to {pct(b.interruption)}"
@@ -115,9 +116,9 @@ def spot_ranking(run: SiteRun):
 def pole_text(p) -> str:
     """One sentence on a pole's lowest adequate height (spots.PoleHeight)."""
     if p.lowest is None:
-        return (f"{p.pole} ({p.min_height_m:g}-{p.max_height_m:g} m): no height in its range reaches "
+        return (f"{p.pole} ({length(p.min_height_m)} to {length(p.max_height_m)}): no height in its range reaches "
                 f"{pct(p.target_blocked)} blocked.")
-    return (f"{p.pole}: {p.lowest.candidate.height_m:g} m is the lowest height with blocked at most "
+    return (f"{p.pole}: {length(p.lowest.candidate.height_m)} is the lowest height with blocked at most "
             f"{pct(p.target_blocked)} ({pct(p.lowest.blocked_fraction)}).")
 
 
@@ -131,8 +132,8 @@ def spots_section(run: SiteRun, ranking) -> dict:
     rows = []
     for r in ranking.best_of_each():
         c = r.candidate
-        rows.append({"spot": c.name, "kind": c.kind, "position": f"{c.east_m:.1f} E, {c.north_m:.1f} N",
-                     "height": f"{c.height_m:g} m", "blocked": pct(r.blocked_fraction, 2),
+        rows.append({"spot": c.name, "kind": c.kind, "position": f"{length(c.east_m)} E, {length(c.north_m)} N",
+                     "height": length(c.height_m), "blocked": pct(r.blocked_fraction, 2),
                      "interruption": pct(r.interruption, 2)})
     poles = [pole_text(p) for p in ranking.poles]
     growth = []
@@ -146,7 +147,7 @@ def spots_section(run: SiteRun, ranking) -> dict:
     c = best.candidate
     if best.blocked_fraction is not None and a.blocked_fraction is not None \
             and best.blocked_fraction < a.blocked_fraction:
-        advice = (f"Best spot: {c.name} at {c.height_m:g} m ({c.east_m:.1f} m east, {c.north_m:.1f} m north of "
+        advice = (f"Best spot: {c.name} at {length(c.height_m)} ({length(c.east_m)} east, {length(c.north_m)} north of "
                   f"the survey point). It would cut blocked time from {pct(a.blocked_fraction)} to "
                   f"{pct(best.blocked_fraction)}; the verdict there would be {verdict}.")
     else:
@@ -159,39 +160,12 @@ def spots_section(run: SiteRun, ranking) -> dict:
 
 
 # ---------------------------------------------------------------------------
-# Formatting shared by every format
+# Formatting shared by every format (the formats themselves: words.py)
 # ---------------------------------------------------------------------------
-def pct(x, digits: int = 1) -> str:
-    """A fraction as a percentage ("n/a" when undefined), as every output prints it."""
-    return "n/a" if x is None else f"{100 * x:.{digits}f} %"
-
-
-def _deg(x: float) -> str:
-    return f"{x:.0f}°" if abs(x - round(x)) < 0.05 else f"{x:.1f}°"
-
-
-def _utc(dt: datetime) -> str:
-    return dt.astimezone(timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
-
-
-def _duration(seconds: float) -> str:
-    seconds = float(seconds)
-    if seconds < 90:
-        return f"{seconds:.0f} s"
-    if seconds < 5400:
-        return f"{seconds / 60:.1f} min"
-    return f"{seconds / 3600:.1f} h"
-
-
-def _coords(lat: float, lon: float) -> str:
-    return (f"{abs(lat):.5f}° {'N' if lat >= 0 else 'S'}, "
-            f"{abs(lon):.5f}° {'E' if lon >= 0 else 'W'} (WGS84)")
-
-
 def _survey_day(text: str) -> str:
     """The survey date as given: a date alone (midnight) prints without a time."""
     when = datetime.fromisoformat(text.replace("Z", "+00:00"))
-    return when.strftime("%Y-%m-%d") if when.strftime("%H:%M:%S") == "00:00:00" else _utc(when)
+    return when.strftime("%Y-%m-%d") if when.strftime("%H:%M:%S") == "00:00:00" else utc(when)
 
 
 def report_id(inputs: dict, generated: datetime) -> str:
@@ -282,64 +256,64 @@ def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
     rid = report_id(inputs, generated)
     sv = s.survey
 
-    header = [("Site", s.name), ("Coordinates", _coords(s.latitude_deg, s.longitude_deg)),
-              ("Ground elevation", f"{s.elevation_m:g} m above sea level"),
+    header = [("Site", s.name), ("Coordinates", coordinates(s.latitude_deg, s.longitude_deg)),
+              ("Ground elevation", f"{length(s.elevation_m)} above sea level"),
               ("Mount", mount_text(s)),
               ("Surveyed by", sv.get("surveyor", "") or "-"),
               ("Organisation", sv.get("organisation", "") or "-"),
               ("Customer", sv.get("customer", "") or "-"),
               ("Surveyed on", _survey_day(sv["date"]) if sv.get("date") else "- (no [survey] date in the site file)"),
-              ("Report made", _utc(generated))]
+              ("Report made", utc(generated))]
 
     o = result["outages"]
     figures = [
         ("Blocked fraction", pct(a.blocked_fraction, 2), "of usable sky samples fall behind obstructions"),
         ("Availability", pct(a.availability, 2), "of the time at least one unblocked satellite is in view"),
         ("Interruption", pct(a.interruption, 2),
-         f"of the time the link is down (reassigned every {s.schedule.reassign_s:g} s)"),
+         f"of the time the link is down (scheduling period {s.schedule.reassign_s:g}{NBSP}s)"),
         ("Outages a day", f"{o['count_per_day']:.1f}", "drop-outs per day under the scheduling model"),
-        ("Down time a day", f"{o['minutes_per_day']:.1f} min", "link down, in minutes per day"),
-        ("Longest outage", _duration(o["longest_s"]), "single longest drop-out in the window"),
+        ("Down time a day", f"{o['minutes_per_day']:.1f}{NBSP}min", "link down, in minutes per day"),
+        ("Longest outage", duration(o["longest_s"]), "single longest drop-out in the window"),
     ]
 
     epochs = run.fleet.epochs_utc()
     if run.fleet.illustrative:
-        epoch_text = f"generated at the window start, {_utc(w.start)} (illustrative, not a real constellation)"
+        epoch_text = f"generated at the window start, {utc(w.start)} (illustrative, not a real constellation)"
     elif epochs:
         lo, hi = min(epochs), max(epochs)
-        epoch_text = _utc(lo) if (hi - lo).total_seconds() < 60 else f"{_utc(lo)} to {_utc(hi)}"
+        epoch_text = utc(lo) if (hi - lo).total_seconds() < 60 else f"{utc(lo)} to {utc(hi)}"
     else:
         epoch_text = "-"
     groups = ", ".join(f"{k} ({v})" for k, v in run.fleet.groups.items())
     fov = "none set: all sky above the minimum elevation"
     if s.terminal.scan_half_angle_deg is not None:
-        fov = (f"cone of {s.terminal.scan_half_angle_deg:g}° half-angle around a boresight tilted "
-               f"{s.terminal.tilt_deg:g}° toward {s.terminal.tilt_azimuth_deg:g}° (true)")
+        fov = (f"cone of {elevation(s.terminal.scan_half_angle_deg)} half-angle around a boresight tilted "
+               f"{elevation(s.terminal.tilt_deg)} toward {azimuth(s.terminal.tilt_azimuth_deg)} (true)")
     setup = [
         ("Satellites", f"{len(run.fleet):,} from {run.fleet.source}"),
         ("Shells or groups", groups or "-"),
         ("Element epoch", epoch_text),
-        ("Window", f"{_utc(w.start)}, {w.hours:g} h at {w.step_s:g} s steps ({w.count:,} sample times)"),
-        ("Minimum elevation", f"{s.terminal.min_elevation_deg:g}°"),
+        ("Window", f"{window(w.start, w.hours, w.step_s)} ({w.count:,} sample times)"),
+        ("Minimum elevation", elevation(s.terminal.min_elevation_deg)),
         ("Field of view", fov),
         ("Usable sky samples", f"{a.usable_samples:,} satellite positions, {a.blocked_samples:,} of them blocked"),
     ]
 
     sectors = [{
-        "span": f"{_deg(sec.from_deg)}-{_deg(sec.to_deg)}", "peak": _deg(sec.peak_elevation_deg),
+        "span": azimuth_span(sec.from_deg, sec.to_deg), "peak": elevation(sec.peak_elevation_deg),
         "labels": ", ".join(sec.labels) or "(unlabelled)", "share": pct(sec.blocked_share),
         "if_cleared": pct(sec.blocked_fraction_if_cleared, 2),
     } for sec in a.sectors]
 
     events = sorted(o["events"], key=lambda e: -e["duration_s"])[:MAX_OUTAGE_ROWS]
     outage_rows = [{"start": e["start"].replace("T", " ").replace("Z", " UTC"),
-                    "duration": _duration(e["duration_s"])} for e in sorted(events, key=lambda e: e["start"])]
+                    "duration": duration(e["duration_s"])} for e in sorted(events, key=lambda e: e["start"])]
 
     dec = run.declination.declination_deg
     true_points = s.horizon.to_true(dec).points
     horizon_rows = [{
-        "measured": f"{p.azimuth_deg:g}°", "true": f"{q.azimuth_deg:.1f}°", "elevation": f"{p.elevation_deg:g}°",
-        "distance": "-" if p.distance_m is None else f"{p.distance_m:g} m", "label": p.label or "",
+        "measured": azimuth(p.azimuth_deg), "true": azimuth(q.azimuth_deg), "elevation": elevation(p.elevation_deg),
+        "distance": "-" if p.distance_m is None else length(p.distance_m), "label": p.label or "",
     } for p, q in zip(s.horizon.points, true_points)]
     if s.horizon.reference == "magnetic":
         bearing_note = (f"Bearings were taken with a compass (magnetic). Declination {dec:+.2f}° "
@@ -392,9 +366,9 @@ def method_text(run: SiteRun) -> list[str]:
         "(Walker 1984). Element sets from files are used as given; their epochs are listed above.",
         "Compass bearings are turned to true bearings with the World Magnetic Model WMM2025 (NOAA NCEI and BGS).",
         "Horizon mask: straight lines between measured points, wrapping through north. A satellite sample "
-        f"counts as usable sky at or above {s.terminal.min_elevation_deg:g}° elevation (and inside the "
+        f"counts as usable sky at or above {elevation(s.terminal.min_elevation_deg)} elevation (and inside the "
         "field-of-view cone when one is set); it is blocked when it lies below the mask at its azimuth.",
-        f"Scheduling model (scheduling period {s.schedule.reassign_s:g} s; leosite's default is 15 s, set it to "
+        f"Scheduling model (scheduling period {s.schedule.reassign_s:g}{NBSP}s; leosite's default is 15{NBSP}s, set it to "
         "what your network uses): at each reassignment the highest usable satellite is assigned, not knowing "
         "the local obstructions; one that sets or leaves the field of view is handed over at once to the "
         "highest usable one; if the assigned satellite is blocked the link is down until the next assignment. "

@@ -9,9 +9,9 @@ from __future__ import annotations
 
 FIXED = (
     "Roof, ladder and mast work can kill. Use fall protection on any roof and never work on one alone.",
-    "Set ladders at about 1 in 4 (75 degrees) on firm, level footing, tied off, reaching about 1 m "
+    "Set ladders at about 1 in 4 (75 degrees) on firm, level footing, tied off, reaching about 1\u00a0m "
     "above the landing (common practice).",
-    "Keep yourself, ladders, masts and cables at least 3 m (10 ft) from overhead power lines, more where "
+    "Keep yourself, ladders, masts and cables at least 3\u00a0m (10\u00a0ft) from overhead power lines, more where "
     "local rules say so (common practice); treat every line as live.",
     "Stop in wind, rain, ice or lightning; a wet or mossy roof is a slip hazard.",
     "Before setting a pole, locate buried services, size the footing and guys for its height and wind load, "
@@ -41,11 +41,11 @@ def short_note(kind: str) -> str:
     """One line for places with no room for the full note."""
     if kind == "vehicle":
         return ("Safety: check roof load and clearance height; never adjust while moving; "
-                "3 m from power lines.")
+                "3\u00a0m from power lines.")
     if kind == "marine":
         return ("Safety: clear of radar beams and the compass safe distance; harness aloft; "
-                "3 m from power lines.")
-    return ("Safety: fall protection on roofs, ladder at 1 in 4, 3 m from power lines, never alone; "
+                "3\u00a0m from power lines.")
+    return ("Safety: fall protection on roofs, ladder at 1 in 4, 3\u00a0m from power lines, never alone; "
             "local codes first.")
 
 

@@ -19,7 +19,7 @@ from survey.assess import assess
 from survey.cli import main
 from survey.horizon import HorizonMask
 from survey.pipeline import FleetChoice, run_site
-from survey.report import load_report_inputs, recommendations, render_report, write_report
+from survey.report import load_report_inputs, recommendations, render_report, report_model, write_report
 from survey.site import load_site
 
 from .conftest import DEMO, MINIMAL_SITE
@@ -238,7 +238,7 @@ def test_what_if_cleared_matches_an_independent_reassessment(write_site):
         # The sector table's own "if cleared" figure says the same, and so does assess.
         assert sec.blocked_fraction_if_cleared == pytest.approx(rec["blocked_fraction"], abs=1e-12)
         assert 0 < rec["blocked_fraction"] < a.blocked_fraction
-        assert f"{100 * rec['blocked_fraction']:.1f} %" in rec["text"]
+        assert f"{100 * rec['blocked_fraction']:.1f}\u00a0%" in rec["text"]  # no-break space (words.py)
 
 
 def test_demo_advice_agrees_with_the_sector_table(runs):
@@ -259,7 +259,7 @@ def test_the_spot_section_says_what_the_ranking_says(runs):
     _, text = _pdf_text(render_report(run, "pdf", generated=WHEN))
     flat = " ".join(text.split())
     b = ranking.best
-    assert f"Best spot: {b.candidate.name} at {b.candidate.height_m:g} m" in flat
+    assert f"Best spot: {b.candidate.name} at {b.candidate.height_m:.1f} m" in flat
     assert f"to {100 * b.blocked_fraction:.1f} %" in flat
     assert "as the trees grow" in flat  # the demo's alders have growth rates
 
@@ -363,3 +363,46 @@ def test_advice_says_trim_only_for_plants(labels, plant):
     from survey.report import _looks_like_vegetation
 
     assert _looks_like_vegetation(labels) is plant
+
+
+@pytest.mark.parametrize("demo", DEMOS)
+def test_demo_pdf_is_small_enough_to_email(runs, demo):
+    """Figures are embedded at print resolution with an indexed palette: each demo
+    report stays under 1 MB (it was about 2 MB with lossless RGB figures)."""
+    data = render_report(runs[demo], "pdf", generated=WHEN)
+    assert len(data) < 1_000_000
+    reader, _ = _pdf_text(data)
+    for page in reader.pages:  # the figures are still there, at print resolution
+        for im in page.images:
+            assert min(im.image.size) >= 700
+
+
+def _strings(value):
+    if isinstance(value, str):
+        yield value
+    elif isinstance(value, dict):
+        for v in value.values():
+            yield from _strings(v)
+    elif isinstance(value, (list, tuple)):
+        for v in value:
+            yield from _strings(v)
+
+
+def test_a_number_never_parts_from_its_unit(runs):
+    """Every figure the report writes keeps its number and unit together (a
+    no-break space, U+00A0, between them), and each kind of angle has one precision."""
+    import re
+
+    for run in runs.values():
+        model = report_model(run, generated=WHEN)
+        text = [t for k, v in model.items() if k not in ("inputs", "result") for t in _strings(v)]
+        for t in text:
+            assert not re.search(r"\d (%|m|s|min|h)(?![A-Za-z])", t), t
+        for row in model["sectors"]:
+            assert re.fullmatch(r"\d{1,3}\.\d°–\d{1,3}\.\d°|all round", row["span"]), row["span"]
+            assert re.fullmatch(r"\d{1,2}\.\d°", row["peak"]), row["peak"]
+        for row in model["horizon"]["rows"]:
+            assert re.fullmatch(r"\d{1,3}\.\d°", row["true"]) and re.fullmatch(r"\d{1,3}\.\d°", row["measured"])
+        if model["spots"]:
+            for row in model["spots"]["rows"]:
+                assert re.fullmatch(r"\d+\.\d\u00a0m", row["height"]), row["height"]
