@@ -80,9 +80,9 @@ def lum(px):
     return px[..., :3].mean(axis=-1)
 
 
-def disc_pixels(frame, shrink=0.0):
+def disc_pixels(frame, shrink=0.0, size=SIZE):
     cx, cy, R = frame
-    yy, xx = np.mgrid[0:SIZE, 0:SIZE]
+    yy, xx = np.mgrid[0:size, 0:size]
     return np.hypot(xx + 0.5 - cx, yy + 0.5 - cy) <= R - shrink
 
 
@@ -91,12 +91,48 @@ def near(arr, x, y, rad=3):
     return arr[y - rad:y + rad + 1, x - rad:x + rad + 1]
 
 
+def rim_darkness(L, frame, az_list, r=None, half=2.0):
+    """Darkest luminance within +-half px of radius r (default: the rim) at
+    each azimuth, by the projection formula above."""
+    cx, cy, R = frame
+    r = R if r is None else r
+    out = []
+    for a in az_list:
+        ar = math.radians(a)
+        out.append(min(L[int(round(cy - rr * math.cos(ar))), int(round(cx + rr * math.sin(ar)))]
+                       for rr in np.arange(r - half, r + half + 0.01, 0.5)))
+    return np.array(out)
+
+
 # ---------------------------------------------------------------------------
 def test_image_size_and_mode():
+    # Layout is in 1/1000ths of the image size (render.py's module docstring),
+    # so the 640 px frame is the 1000 px frame scaled by 0.64.
+    f1000 = plot_frame(1000)
+    n = 200
+    az = np.concatenate([np.full(n, 90.0), np.full(n, 270.0)]).astype(np.float32)
+    el = np.full(2 * n, 45.0, np.float32)
+    blocked = np.arange(2 * n) >= n                  # the west stack is blocked
     for size in (1000, 640):
-        img, _ = render(size=size)
+        img, px = render(az, el, blocked, size=size)
         assert img.size == (size, size)
         assert img.mode == "RGB"
+        f = plot_frame(size)
+        assert tuple(f) == pytest.approx(tuple(v * size / 1000 for v in f1000), abs=1e-6)
+        cx, cy, R = f
+        # The rim sits at R on all sides (between the 30 deg spokes).
+        assert (rim_darkness(lum(px), f, range(15, 360, 30)) < 110).all(), size
+        # Hand projection: az 90 / az 270 at el 45 lie R/2 right / left of
+        # the zenith; the clear blob is east, the blocked blob west.
+        inside = disc_pixels(f, size=size)
+        for cls, other, (x, y) in ((is_clear, is_blocked, (cx + R / 2, cy)),
+                                   (is_blocked, is_clear, (cx - R / 2, cy))):
+            ys, xs = np.nonzero(cls(px) & inside)
+            assert xs.size > 10, size
+            assert xs.mean() + 0.5 == pytest.approx(x, abs=2.0), size
+            assert ys.mean() + 0.5 == pytest.approx(y, abs=2.0), size
+            assert np.hypot(xs + 0.5 - x, ys + 0.5 - y).max() < 16 * size / 1000
+            assert not other(near(px, x, y, 4)).any()
 
 
 def test_project_matches_hand_worked_points():
@@ -278,13 +314,37 @@ def test_empty_input_renders():
     f = plot_frame(SIZE)
     img, px = render()
     assert img.size == (SIZE, SIZE)
-    inside = disc_pixels(f)
-    assert not (is_clear(px) & inside).any()
-    assert not (is_blocked(px) & inside).any()
-    # centre of an empty sky is white
     cx, cy, R = f
-    x, y = expected_xy(200.0, 52.0, f)
-    assert (near(px, x, y, 2) > 245).all()
+    L = lum(px)
+    # No track pixels anywhere on the plot, out to the azimuth labels.
+    plot = disc_pixels(f, shrink=-45.0)
+    assert not (is_clear(px) & plot).any()
+    assert not (is_blocked(px) & plot).any()
+    # The frame is still drawn: the rim at R all round ...
+    assert (rim_darkness(L, f, range(15, 360, 30)) < 110).all()
+    # ... and the azimuth labels 20 px (20/1000 of the width) outside it at
+    # every 30 deg spoke, N at the top and E to the right (hand projection
+    # at r = R + 20), with nothing between the labels.
+    for a in range(0, 360, 15):
+        x, y = cx + (R + 20) * math.sin(math.radians(a)), cy - (R + 20) * math.cos(math.radians(a))
+        dark = np.count_nonzero(near(L, x, y, 11) < 90)
+        if a % 30 == 0:
+            assert dark > 15, a
+        else:
+            assert dark == 0, a
+    # The sky between the grid rings and spokes is white: no obstruction fill
+    # for a clear mask.  (Az 15 carries the ring labels; skipped.)
+    for a in range(45, 360, 30):
+        for e in (7.5, 37.5, 52.5, 67.5, 82.5):
+            x, y = expected_xy(a, e, f)
+            assert (near(px, x, y, 2) > 245).all(), (a, e)
+    # The dashed minimum-elevation ring (25 deg) is at R * 65/90 and not at
+    # the neighbouring 20 or 30 deg radii (away from its label at az 195 and
+    # the ring labels along az 15).
+    az_ring = [a for a in range(0, 360, 3) if not (175 <= a <= 215 or 5 <= a <= 25)]
+    for e, lo, hi in ((25.0, 0.35, 0.92), (20.0, 0.0, 0.05), (30.0, 0.0, 0.05)):
+        frac = np.mean(rim_darkness(L, f, az_ring, r=R * (90 - e) / 90) < 90)
+        assert lo <= frac < hi, (e, frac)
 
 
 def test_notes_shift_frame_and_nonfinite_samples_are_dropped():
@@ -295,6 +355,14 @@ def test_notes_shift_frame_and_nonfinite_samples_are_dropped():
     img, px = render(az, el, notes=("note one", "note two"))
     x, y = expected_xy(90.0, 45.0, f2)
     assert is_clear(near(px, x, y)).any()
+    # The one finite sample is the only colour on the plot, and it sits at
+    # the shifted frame's projection, not the note-less frame's.
+    ys, xs = np.nonzero((is_clear(px) | is_blocked(px)) & disc_pixels(f2, shrink=-10.0))
+    assert xs.size > 0 and np.hypot(xs + 0.5 - x, ys + 0.5 - y).max() < 16
+    assert not is_clear(near(px, *expected_xy(90.0, 45.0, f0), 1)).any()
+    # In particular nothing at the zenith, where an el = inf sample clipped
+    # to 90 deg would land (the NaN-azimuth one is caught by the check above).
+    assert not is_clear(near(px, f2.cx, f2.cy, 8)).any()
 
 
 def test_input_validation():
@@ -325,8 +393,32 @@ def test_large_input_is_vectorised():
     # Half a million samples render (speed belongs in bench/, not in a test).
     _img, px = render(az, el, blocked, mask=(m_az, m_el), fov=(180.0, 60.0, 45.0))
     f = plot_frame(SIZE, fov=True)
-    x, y = expected_xy(265.0, 8.0, f)            # inside the barn
-    assert is_blocked(px[int(y), int(x)])
+    # Every sample, projected by hand (module docstring), away from the edge
+    # of the obstruction (3 deg band round az 250..280, el 20, where the
+    # blur legitimately mixes the two layers).
+    a = az.astype(np.float64)
+    e = el.astype(np.float64)
+    in_az = (a >= 250.0) & (a <= 280.0)
+    edge = ((in_az & (np.abs(e - 20.0) < 3.0))
+            | ((np.minimum(np.abs(a - 250.0), np.abs(a - 280.0)) < 3.0) & (e < 23.0)))
+    cx, cy, R = f
+    r = R * (90.0 - e) / 90.0
+    x = cx + r * np.sin(np.radians(a))
+    y = cy - r * np.cos(np.radians(a))
+    p = px[y.astype(np.int64), x.astype(np.int64)]
+    clear_s, blk_s = ~blocked & ~edge, blocked & ~edge
+    assert clear_s.sum() > 400_000 and blk_s.sum() > 8_000
+    # No sample lands on the other layer's hue: blocked hue exactly under
+    # the mask, clear hue everywhere else ...
+    assert np.count_nonzero(is_blocked(p[clear_s])) == 0
+    assert np.count_nonzero(is_clear(p[blk_s])) == 0
+    # ... and nearly all show their own hue (the rest sit under the rim,
+    # rings, labels and the field-of-view line drawn over the tracks).
+    assert is_clear(p[clear_s]).mean() > 0.9
+    assert is_blocked(p[blk_s]).mean() > 0.85
+    # The field of view is still drawn over the dense tracks: on its
+    # boresight meridian it crosses el 60 - 45 = 15 deg.
+    assert is_fov(near(px, *expected_xy(180.0, 15.0, f), 3)).any()
 
 
 # ===========================================================================
@@ -350,11 +442,59 @@ def pano(points=(), mask=None, az=(), el=(), blocked=None, min_el=25.0, size=PAN
     return img, np.asarray(img).astype(np.int32)
 
 
+def pano_hand_xy(az_deg, el_deg, f):
+    """The mapping above, written out from the PanoramaFrame docstring."""
+    az = np.asarray(az_deg, dtype=np.float64)
+    el = np.asarray(el_deg, dtype=np.float64)
+    return f.left + f.width * az / 360.0, f.top + f.height * (90.0 - el) / 90.0
+
+
 def test_panorama_size_and_mode():
     img, _ = pano()
     assert img.size == PANO and img.mode == "RGB"
-    img = horizon_panorama()                      # all defaults: empty, print size
-    assert img.size == (2400, 800) and img.mode == "RGB"
+    img_d = horizon_panorama()                    # all defaults: empty, print size
+    assert img_d.size == (2400, 800) and img_d.mode == "RGB"
+    # Both empty figures draw the frame: text unit u = 1/1000 of the width
+    # (1.5 and 2.4 px; the height leaves room at these sizes).
+    for size, u, im in ((PANO, 1.5, img), ((2400, 800), 2.4, img_d)):
+        px = np.asarray(im).astype(np.int32)
+        L = lum(px)
+        f = panorama_frame(size)
+        left, top = f.left, f.top
+        right, bottom = f.left + f.width, f.top + f.height
+        # The rim: dark on all four sides of the plot area.
+        for t in np.linspace(0.03, 0.97, 12):
+            x, y = left + t * f.width, top + t * f.height
+            assert L[int(top) - 2:int(top) + 3, int(x)].min() < 90, (size, t)
+            assert L[int(bottom) - 2:int(bottom) + 3, int(x)].min() < 90, (size, t)
+            assert L[int(y), int(left) - 2:int(left) + 3].min() < 90, (size, t)
+            assert L[int(y), int(right) - 2:int(right) + 3].min() < 90, (size, t)
+        # Axis labels under every 30 deg tick (N, E, S, W and the degrees),
+        # none between them; x linear in azimuth (hand mapping).
+        for a in range(0, 361, 15):
+            x, _ = pano_hand_xy(a, 0.0, f)
+            box = L[int(bottom + 8 * u):int(bottom + 28 * u), int(x - 10 * u):int(x + 10 * u)]
+            if a % 30 == 0:
+                assert np.count_nonzero(box < 90) > 20, (size, a)
+            else:
+                assert np.count_nonzero(box < 90) == 0, (size, a)
+        # Empty inputs: white sky, no track hue and no obstruction fill.
+        inner = px[int(top) + 4:int(bottom) - 4, int(left) + 4:int(right) - 4]
+        assert not is_clear(inner).any() and not is_blocked(inner).any()
+        # (#DEDEDE fill: only stray anti-aliased line edges, no patch of it.)
+        assert np.count_nonzero((np.abs(inner - 222) <= 4).all(axis=-1)) < 100
+        for a in (15.0, 105.0, 195.0, 285.0):
+            for e in (7.5, 37.5, 52.5, 82.5):
+                assert (near(px, *pano_hand_xy(a, e, f), 2) > 245).all(), (size, a, e)
+        # The dashed minimum elevation (25 deg default) at y(25), not at
+        # y(20) or y(30); its label card sits at one end, so look at 40..320.
+        xs = np.arange(int(pano_hand_xy(40.0, 0, f)[0]), int(pano_hand_xy(320.0, 0, f)[0]))
+
+        def dark_fraction(e):
+            y = int(round(float(pano_hand_xy(0.0, e, f)[1])))
+            return np.mean(L[y - 2:y + 3, xs].min(axis=0) < 90)
+        assert 0.35 < dark_fraction(25.0) < 0.9, size
+        assert dark_fraction(20.0) < 0.02 and dark_fraction(30.0) < 0.02, size
 
 
 def test_panorama_frame_is_linear_in_azimuth_and_elevation():
@@ -524,16 +664,136 @@ def test_panorama_for_run_marks_points_in_true_azimuth(alder_run):
     # site's WMM declination (about -14 deg here) it is marked near 138, not 152.
     dec = run.declination.declination_deg
     assert -16.0 < dec < -12.0
-    x_true, y = panorama_xy((152.0 + dec) % 360.0, 40.0, f)
-    x_mag, _ = panorama_xy(152.0, 40.0, f)
+    x_true, y = pano_hand_xy((152.0 + dec) % 360.0, 40.0, f)
+    x_mag, _ = pano_hand_xy(152.0, 40.0, f)
     assert lum(px[int(y), int(x_true)]) > 230          # ring centre (white)
     assert (lum(near(px, x_true, y, 6)) < 90).any()    # ring
     assert not (lum(near(px, x_mag, y, 2)) < 90).any() # nothing drawn at the compass bearing
 
+    # Every measured point of the demo's site.toml, rotated by hand to true
+    # bearings, is marked with a white-centred black ring (radius 5u, u = 1.5).
+    import tomllib
+
+    from .conftest import DEMO
+    with open(DEMO / "alder-brook-farm" / "site.toml", "rb") as fh:
+        measured = tomllib.load(fh)["horizon"]["points"]
+    t_az = np.array([(p[0] + dec) % 360.0 for p in measured])
+    t_el = np.array([float(p[1]) for p in measured], dtype=np.float64)
+    assert len(measured) == 15
+    L = lum(px)
+    for a, e in zip(t_az, t_el):
+        x, y = pano_hand_xy(a, e, f)
+        assert L[int(y), int(x)] > 230, (a, e)
+        ring = [L[int(round(y - r * math.cos(t))), int(round(x + r * math.sin(t)))]
+                for t in np.linspace(0, 2 * math.pi, 16, endpoint=False)
+                for r in (6.75, 7.5, 8.25)]
+        assert min(ring) < 90, (a, e)
+
+    # The skyline is the measured points joined by straight lines in true
+    # azimuth (periodic): hand-interpolated, every column of the plot is
+    # filled (grey/hatch, or blocked tracks) below it and not above it.
+    o = np.argsort(t_az)
+    x0, x1 = int(f.left) + 3, int(f.left + f.width) - 3
+    y0, y1 = int(f.top) + 3, int(f.top + f.height) - 3
+    col_az = (np.arange(x0, x1) + 0.5 - f.left) / f.width * 360.0
+    row_el = 90.0 - (np.arange(y0, y1) + 0.5 - f.top) / f.height * 90.0
+    sky = np.interp(col_az, t_az[o], t_el[o], period=360.0)
+    sub = px[y0:y1, x0:x1]
+    under = row_el[:, None] < sky[None, :] - 1.5
+    above = row_el[:, None] > sky[None, :] + 1.5
+    white = (sub > 245).all(axis=-1)
+    fill = (np.abs(sub - 222) <= 4).all(axis=-1)       # #DEDEDE obstruction fill
+    assert under.sum() > 30_000
+    assert white[under].mean() < 0.01               # (at the compass bearings: ~8 %)
+    assert np.count_nonzero(is_clear(sub)[under]) < 5
+    assert fill[under].mean() > 0.3
+    assert fill[above].mean() < 0.002               # (at the compass bearings: ~0.7 %)
+
+    # Track samples, projected by hand, show the blocked hue when below the
+    # hand-interpolated skyline and the clear hue when above it (2 deg off
+    # the skyline, where the smoothing mixes the layers).
+    az = np.asarray(run.tracks.az_deg, np.float64)
+    el = np.asarray(run.tracks.el_deg, np.float64)
+    sky_s = np.interp(az, t_az[o], t_el[o], period=360.0)
+    blk = el < sky_s
+    away = np.abs(el - sky_s) > 2.0
+    assert (away & blk).sum() > 80 and (away & ~blk).sum() > 1000
+    x, y = pano_hand_xy(az, el, f)
+    p = px[y.astype(np.int64), x.astype(np.int64)]
+    assert np.count_nonzero(is_blocked(p[away & ~blk])) == 0
+    assert np.count_nonzero(is_clear(p[away & blk])) == 0
+    assert is_clear(p[away & ~blk]).mean() > 0.75       # rest: grid, rings, labels
+    assert is_blocked(p[away & blk]).mean() > 0.75
+
+
+def is_down(px):      # dark vermillion bar: vermillion #D55E00 darkened
+    return is_blocked(px) & (lum(px) < 130)
+
+
+def is_link_up(px):   # pale sky blue (#56B4E9 mixed towards white); its hour lines too
+    r, b = px[..., 0], px[..., 2]
+    return (b - r > 30) & (lum(px) > 200)
+
 
 def test_timeline_for_run_size(alder_run):
-    img = outage_timeline_for_run(alder_run)
+    import dataclasses
+
+    run = alder_run
+    w = run.window
+    img = outage_timeline_for_run(run)
     assert img.mode == "RGB" and img.size == (2400, 700)
+    px = np.asarray(img).astype(np.int32)
+    # The demo's hour has no drop-outs: nothing in the down colour anywhere
+    # above the legend, and the row says so on a white card in its middle.
+    assert not run.assessment.down.any()
+    f = outage_timeline_frame(w.start, w.hours, w.step_s)
+    u = 2.4                                      # layout unit: 1/1000 of the width
+    rows_bottom = f.rows_top + f.rows * f.row_pitch
+    assert not is_down(px[:int(rows_bottom + 110 * u)]).any()
+    y = int(f.row_top(0) + f.row_height / 2)
+    mid = px[y - 8:y + 8, int(f.left + 0.4 * f.width):int(f.left + 0.6 * f.width)]
+    assert np.count_nonzero(lum(mid) < 90) > 50
+
+    # Two drop-outs put into the run's own down array: samples 40..49
+    # (00:20:00-00:25:00) and samples 100..101 (00:50:00-00:51:00).  A 1 h window
+    # is one zoomed row, axis 00:00-01:00 (TimelineFrame docstring), so by
+    # hand x(t) = left + width * t / 3600.
+    down = np.zeros(w.count, bool)
+    assert down.size == 120                      # 1 h at 30 s
+    down[40:50] = True
+    down[100:102] = True
+    run2 = dataclasses.replace(run, assessment=dataclasses.replace(run.assessment, down=down))
+    px = np.asarray(outage_timeline_for_run(run2)).astype(np.int32)
+    # (tick and summary bins: the first of 1, 2, 5 ... min giving at most 12)
+    assert f.rows == 1 and f.axis_start_s == 0 and f.axis_span_s == 3600 and f.tick_s == 300
+
+    def hx(t):
+        return f.left + f.width * t / 3600.0
+    row = px[y]
+    # Every sample's step, at its middle: dark where down, pale blue where up
+    # (the 5 min tick lines, on the step edges, are not sampled).
+    for k in range(120):
+        p = row[int(hx((k + 0.5) * 30.0))]
+        if down[k]:
+            assert is_down(p), k
+        else:
+            assert is_link_up(p), k
+    # The dark run on the row starts and ends at the drop-outs' own times.
+    dark = np.flatnonzero(is_down(row))
+    runs = np.split(dark, np.flatnonzero(np.diff(dark) > 1) + 1)
+    assert len(runs) == 2
+    for r, (ta, tb) in zip(runs, ((1200.0, 1500.0), (3000.0, 3060.0))):
+        assert r[0] == pytest.approx(hx(ta), abs=1.5)
+        assert r[-1] + 1 == pytest.approx(hx(tb), abs=1.5)
+    # The per-5-minute chart below: bars in the 00:20 and 00:50 bins only,
+    # standing on the chart's base line, 5 min and 1 min tall: five to one.
+    chart = px[int(rows_bottom + 40 * u):int(rows_bottom + 112 * u)]
+    cols = [int(hx((i + 0.5) * 300.0)) for i in range(12)]
+    has_bar = [i for i, c in enumerate(cols) if is_down(chart[:, c]).any()]
+    assert has_bar == [4, 10]
+    base = np.flatnonzero(lum(chart[:, cols[0]]) < 90).mean()  # base line's middle, empty bin
+    tall = [base - int(np.argmax(is_down(chart[:, cols[i]]))) for i in (4, 10)]
+    assert tall[0] / tall[1] == pytest.approx(5.0, rel=0.1)
 
 
 # ===========================================================================
@@ -615,16 +875,40 @@ def test_timeline_no_outages_says_so():
     y = int(f.row_top(0) + f.row_height / 2)
     mid = px[y - 6:y + 6, int(f.x(9 * 3600)):int(f.x(15 * 3600))]
     assert np.count_nonzero(lum(mid) < 90) > 20
-    # default size for one day
+    card = px[y - 6:y + 6, int(f.x(11.9 * 3600)):int(f.x(12.1 * 3600))]
+    assert (lum(card) > 245).mean() > 0.3 and not is_link_up(card).any()
+
+    # By hand, x(t) = left + width * t / 86400 (TimelineFrame docstring).
+    # The whole day is link-up pale blue: along the row's top edge (above the
+    # card) from 00:00 to 24:00, and through its middle away from the card.
+    def hx(f, t):
+        return f.left + f.width * t / 86400.0
+    xs = np.arange(int(hx(f, 0)) + 2, int(hx(f, 86400)) - 2)
+    assert is_link_up(px[int(f.row_top(0)) + 3, xs]).all()
+    for h in list(range(0, 8)) + list(range(17, 24)):
+        assert is_link_up(px[y, int(hx(f, (h + 0.5) * 3600))]), h
+    # Left of 00:00 and right of 24:00 is not the row.
+    assert not is_link_up(px[y, int(hx(f, 0)) - 6]) and not is_link_up(px[y, int(hx(f, 86400)) + 6])
+    # The hour chart has no bars but a soft "no down time" line in its middle.
+    chart = px[int(rows_bottom + 60 * u):int(rows_bottom + 106 * u)]
+    assert np.count_nonzero(lum(chart[:, int(hx(f, 10 * 3600)):int(hx(f, 14 * 3600))]) < 120) > 20
+    assert np.count_nonzero(lum(chart[:, int(hx(f, 1 * 3600)):int(hx(f, 5 * 3600))]) < 120) == 0
+    # default size for one day: the same row, scaled to 2400 x 700
     img = outage_timeline(start=T0, hours=24.0, step_s=15.0, down=np.zeros(5760, bool))
     assert img.size == (2400, 700)
+    px = np.asarray(img).astype(np.int32)
+    f = outage_timeline_frame(T0, 24.0, 15.0)
+    xs = np.arange(int(hx(f, 0)) + 2, int(hx(f, 86400)) - 2)
+    assert is_link_up(px[int(f.row_top(0)) + 3, xs]).all()
+    assert not is_blocked(px[:int(f.rows_top + f.row_pitch + 110 * 2.4)]).any()   # (u = 2.4)
 
 
 def test_timeline_short_window_zooms_in():
     down = down_at(1.0, 15.0, (0.5, 0.5 + 5 / 60))      # 00:30-00:35
     _, px = timeline(down, 1.0)
     f = outage_timeline_frame(T0, 1.0, 15.0, size=(1200, 500))
-    assert f.rows == 1 and f.axis_start_s == 0 and f.axis_span_s == 3600
+    # (tick and summary bins: the first of 1, 2, 5 ... min giving at most 12)
+    assert f.rows == 1 and f.axis_start_s == 0 and f.axis_span_s == 3600 and f.tick_s == 300
     assert row_lum(px, f, 0, f.x(1950)) < 120             # 00:32:30
     assert row_lum(px, f, 0, f.x(900)) > 190              # 00:15
     # A single 15 s drop-out is still drawn (at least one visible column).
@@ -640,6 +924,10 @@ def test_timeline_default_height_grows_and_is_capped():
     h60 = outage_timeline(start=T0, hours=1440, step_s=600,
                           down=np.zeros(1440 * 6, bool)).size[1]
     assert 700 < h7 < h60 <= 2400
+    # 700 px for one day and 96 px (40/1000 of the 2400 px width) for each
+    # further day, capped at 2400 px (render.py's default-size rule).
+    assert h7 == 700 + 6 * 96
+    assert h60 == 2400
 
 
 def test_timeline_validation():
@@ -663,15 +951,92 @@ def plan(obstacles=(BARN, TREE, WALL_), cells=(), markers=(), best=None, size=PL
     return img, np.asarray(img).astype(np.int32), plan_layout(size=size, **kw)
 
 
+def is_grey_patch(px, k=5):
+    """Pixels at the centre of a k x k block of neutral mid-to-light grey: the
+    plan's obstruction fill (#DEDEDE) and its blended hatch lines.  The 1-2 px
+    grid lines, card outlines and anti-aliased text never fill such a block."""
+    L = lum(px)
+    g = ((np.ptp(px, axis=-1) < 12) & (L > 110) & (L < 236)).astype(np.int32)
+    c = np.pad(g, ((1, 0), (1, 0))).cumsum(axis=0).cumsum(axis=1)   # box sums
+    box = c[k:, k:] - c[:-k, k:] - c[k:, :-k] + c[:-k, :-k]
+    return np.pad(box == k * k, k // 2)
+
+
+def is_hatch(px):      # hatch lines: #3A3A3A blended 55 % into the fill, anti-aliased
+    return (np.ptp(px, axis=-1) < 12) & (lum(px) > 110) & (lum(px) < 215)
+
+
+def scale_bar_run(L, lay):
+    """Left end and length (px) of the black bar on the scale bar's centre line."""
+    row = L[int(round(lay.scale_y)), :]
+    xs = np.flatnonzero(row < 80)
+    xs = xs[(xs > lay.scale_x - 10) & (xs < lay.scale_x + lay.scale_px + 10)]
+    return xs.min(), xs.max() - xs.min()
+
+
 def test_plan_size_mode_and_empty():
-    img, _, _ = plan()
+    img, px, lay = plan()
     assert img.size == PLAN and img.mode == "RGB"
-    img = plan_figure()                                  # nothing at all
-    assert img.size == (1600, 1600) and img.mode == "RGB"
-    img, px, lay = plan(obstacles=(), cells=())
+    # The barn's footprint (east 10..20 m, north 5..15 m) at the metres the
+    # scale bar itself shows: px per metre read off the drawn bar, the site
+    # point at the frame's origin (PlanFrame docstring: north up).
+    L = lum(px)
+    _, bar_px = scale_bar_run(L, lay)
+    k = bar_px / lay.scale_m
     f = lay.frame
-    inner = px[int(f.top) + 5:int(f.bottom) - 5, int(f.left) + 5:int(f.right) - 5]
-    assert not is_blocked(inner).any()
+    xa, xb = f.ox + 10 * k, f.ox + 20 * k
+    ya, yb = f.oy - 15 * k, f.oy - 5 * k
+    yy, xx = np.mgrid[0:PLAN[1], 0:PLAN[0]]
+    xc, yc = xx + 0.5, yy + 0.5
+    inside = (xc > xa + 4) & (xc < xb - 4) & (yc > ya + 4) & (yc < yb - 4)
+    ring = ((xc > xa - 14) & (xc < xb + 14) & (yc > ya - 14) & (yc < yb + 14)
+            & ~((xc > xa - 4) & (xc < xb + 4) & (yc > ya - 4) & (yc < yb + 4)))
+    grey, hatch = is_grey_patch(px), is_hatch(px)
+    assert inside.sum() > 10_000
+    assert grey[inside].mean() > 0.85           # filled grey (the rest: its label) ...
+    assert hatch[inside].mean() > 0.15          # ... and hatched
+    assert not grey[ring].any()                 # and not beyond its walls
+    # Each wall (the dark outline) within 2 px of its metres, mid-side.
+    xm, ym = int((xa + xb) / 2), int((ya + yb) / 2)
+    for x, y in ((xa, ym), (xb, ym), (xm, ya), (xm, yb)):
+        assert L[int(y) - 2:int(y) + 3, int(x) - 2:int(x) + 3].min() < 100, (x, y)
+
+    # Nothing at all: an empty map, still framed, north-arrowed and scaled.
+    for size, im in (((1600, 1600), plan_figure()),
+                     (PLAN, plan(obstacles=(), cells=())[0])):
+        assert im.size == size and im.mode == "RGB"
+        px = np.asarray(im).astype(np.int32)
+        L = lum(px)
+        lay = plan_layout(size=size)
+        f = lay.frame
+        u = size[0] / 1000.0
+        # A bare plan is still at least 10 m across both ways.
+        assert (f.right - f.left) / f.px_per_m >= 10.0
+        assert (f.bottom - f.top) / f.px_per_m >= 10.0
+        # The map's rim on all four sides.
+        for t in np.linspace(0.05, 0.95, 10):
+            x, y = f.left + t * (f.right - f.left), f.top + t * (f.bottom - f.top)
+            assert L[int(f.top) - 2:int(f.top) + 3, int(x)].min() < 90, (size, t)
+            assert L[int(f.bottom) - 2:int(f.bottom) + 3, int(x)].min() < 90, (size, t)
+            assert L[int(y), int(f.left) - 2:int(f.left) + 3].min() < 90, (size, t)
+            assert L[int(y), int(f.right) - 2:int(f.right) + 3].min() < 90, (size, t)
+        inner = px[int(f.top) + 5:int(f.bottom) - 5, int(f.left) + 5:int(f.right) - 5]
+        assert not is_blocked(inner).any()
+        assert np.count_nonzero(inner[..., 1] - inner[..., 0] > 40) == 0    # no tree green
+        assert not is_grey_patch(inner).any()                             # no obstruction fill
+        # The site point's black cross at the frame origin (east 0, north 0).
+        for d in (0, 4, -4):
+            assert L[int(f.oy), int(f.ox + d * u)] < 100        # east-west arm
+            assert L[int(f.oy + d * u), int(f.ox)] < 100        # north-south arm
+        # The north arrow in the top-right corner, nothing in the top-left.
+        top_band = L[int(f.top + 18 * u):int(f.top + 100 * u)]
+        ne = top_band[:, int(f.right - 56 * u):int(f.right - 12 * u)]
+        nw = top_band[:, int(f.left + 12 * u):int(f.left + 56 * u)]
+        assert np.count_nonzero(ne < 90) > 100 * u * u and np.count_nonzero(nw < 90) == 0
+        # The scale bar: as long as its round length at the frame's scale.
+        x0, run = scale_bar_run(L, lay)
+        assert run == pytest.approx(lay.scale_m * f.px_per_m, abs=2.5)
+        assert x0 == pytest.approx(lay.scale_x, abs=2.0)
 
 
 def test_plan_building_lands_at_its_metres():
