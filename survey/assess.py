@@ -284,13 +284,17 @@ def verdict_for(blocked_fraction: float | None, interruption: float, availabilit
 
 
 def assess(tracks: SkyTracks, mask: HorizonMask, criteria: Criteria = Criteria(),
-           schedule: Schedule = Schedule()) -> Assessment:
-    """All figures for one site.  Cheap: tracks are reused across horizon edits."""
+           schedule: Schedule = Schedule(), assignment: Assignment | None = None) -> Assessment:
+    """All figures for one site.  Cheap: tracks are reused across horizon edits;
+    ``assignment`` (schedule_assignment of these tracks and period) is reused when
+    given (evaluate.Evaluator)."""
     blocked = blocked_samples(tracks, mask)
     usable = len(tracks)
     n_blocked = int(blocked.sum())
     availability = availability_of(tracks, blocked)
-    down = schedule_down(tracks, blocked, schedule.reassign_s)
+    if assignment is None:
+        assignment = schedule_assignment(tracks, schedule.reassign_s)
+    down = down_under(assignment, blocked)
     interruption = interruption_of(down)
     warnings = []
     if usable == 0:

@@ -7,6 +7,8 @@ Exit codes: 0 success, 2 bad input (one line per problem on stderr, no traceback
 from __future__ import annotations
 
 import argparse
+from collections.abc import Callable
+from dataclasses import dataclass
 import json
 import sys
 import textwrap
@@ -28,7 +30,20 @@ class _Parser(argparse.ArgumentParser):
         raise InputError(f"command line: {message} (see '{self.prog} --help')")
 
 
-def build_parser() -> argparse.ArgumentParser:
+@dataclass(frozen=True)
+class Command:
+    """A subcommand a front end adds to the engine's (the text UI adds ``ui``):
+    its name and help, a function that adds its arguments to its parser, and the
+    function that runs it with the parsed arguments (returning the exit code)."""
+
+    name: str
+    help: str
+    description: str
+    add_arguments: Callable[[argparse.ArgumentParser], None]
+    run: Callable[[argparse.Namespace], int]
+
+
+def build_parser(extra: tuple[Command, ...] = ()) -> argparse.ArgumentParser:
     p = _Parser(prog="leosite", description="Terminal-site survey and obstruction checker "
                                             "for low-Earth-orbit broadband terminals.")
     p.add_argument("--version", action="version", version=f"leosite {__version__}")
@@ -36,7 +51,7 @@ def build_parser() -> argparse.ArgumentParser:
     a = sub.add_parser("assess", help="assess one site: blocked sky, availability, outages, verdict",
                        description="Assess one site file against a satellite fleet over a time window.")
     a.add_argument("site", metavar="SITE", help="site file (site.toml)")
-    _add_run_options(a)
+    add_run_options(a)
     a.add_argument("--json", action="store_true", help="print one JSON object instead of the summary")
     a.add_argument("--plot", metavar="PNG", type=Path, help="write a sky plot (PNG)")
     r = sub.add_parser("report", help="write the site report to hand over: PDF, HTML or JSON",
@@ -45,7 +60,7 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("site", metavar="SITE", help="site file (site.toml), or a report .json to make again")
     r.add_argument("--out", metavar="FILE", type=Path, required=True, help="report file: .pdf, .html or .json")
     r.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper size (default a4)")
-    _add_run_options(r)
+    add_run_options(r)
     h = sub.add_parser("horizon", help="the horizon the site plan makes at another point",
                        description="Derive the horizon at a point of the site plan from its obstacles and the "
                                    "measured points that carry a distance.")
@@ -66,16 +81,13 @@ def build_parser() -> argparse.ArgumentParser:
                     help="blocked fraction a pole must reach (default: the site's qualified limit)")
     sp.add_argument("--json", action="store_true", help="print one JSON object")
     sp.add_argument("--plot", metavar="PNG", type=Path, help="write the site plan figure (PNG)")
-    _add_run_options(sp)
-    u = sub.add_parser("ui", help="the text UI: survey, edit and report a site on screen",
-                       description="Open the text UI on a site file, or with no SITE on a start screen "
-                                   "(new site, demo sites, open a file).")
-    u.add_argument("site", metavar="SITE", nargs="?", type=Path, help="site file (site.toml) to open")
-    _add_run_options(u)
+    add_run_options(sp)
+    for command in extra:
+        command.add_arguments(sub.add_parser(command.name, help=command.help, description=command.description))
     return p
 
 
-def _add_run_options(p) -> None:
+def add_run_options(p) -> None:
     """The fleet and window options every command that assesses a site takes."""
     fleet = p.add_mutually_exclusive_group()
     fleet.add_argument("--shells", metavar="FILE", type=Path,
@@ -116,7 +128,7 @@ def _check_plot(args, problems: Problems) -> None:
         problems.add("--plot", f"{plot}: folder {plot.parent} does not exist")
 
 
-def _check_run_args(args) -> None:
+def check_run_args(args) -> None:
     problems = Problems("command line")
     if args.hours is not None and not args.hours > 0:
         problems.add("--hours", f"must be greater than 0, got {args.hours:g}")
@@ -230,7 +242,7 @@ def _run(args, site, fleet_choice: FleetChoice, quiet: bool) -> SiteRun:
 
 
 def cmd_assess(args) -> int:
-    _check_run_args(args)
+    check_run_args(args)
     run = _run(args, load_site(args.site), FleetChoice(args.shells, args.tle), quiet=args.json)
     if args.plot is not None:
         from .render import sky_plot_png
@@ -246,7 +258,7 @@ def cmd_assess(args) -> int:
 
 
 def cmd_report(args) -> int:
-    _check_run_args(args)
+    check_run_args(args)
     fleet_choice = FleetChoice(args.shells, args.tle)
     if Path(args.site).suffix.lower() == ".json":  # a report made before: run its inputs again
         saved = load_report_inputs(args.site)
@@ -347,7 +359,7 @@ def format_spots(run: SiteRun, ranking) -> str:
 
 
 def cmd_spots(args) -> int:
-    _check_run_args(args)
+    check_run_args(args)
     site = load_site(args.site)
     from .spots import check_options, rank_spots
 
@@ -367,19 +379,15 @@ def cmd_spots(args) -> int:
     return 0
 
 
-def main(argv=None, ui=None) -> int:
-    """Run one command.  ``ui`` starts the text UI with the parsed arguments; it
-    is passed in by the ``tui`` package, because the engine never imports it."""
-    parser = build_parser()
+def main(argv=None, extra: tuple[Command, ...] = ()) -> int:
+    """Run one command: the engine's own, or one of ``extra`` that a front end
+    adds (tui/launch.py adds ``ui``; the engine never imports the front end)."""
+    parser = build_parser(extra)
     try:
         args = parser.parse_args(argv)
-        if args.command == "ui":
-            _check_run_args(args)
-            if args.site is not None:
-                load_site(args.site)  # a bad site file is one line and exit 2, before the screen opens
-            if ui is None:
-                raise InputError("ui: the text UI is started by the 'leosite' command (package tui)")
-            return ui(args)
+        for command in extra:
+            if args.command == command.name:
+                return command.run(args)
         if args.command == "assess":
             return cmd_assess(args)
         if args.command == "report":

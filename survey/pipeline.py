@@ -11,12 +11,14 @@ from pathlib import Path
 
 import numpy as np
 
-from .assess import Assessment, assess
+from .assess import Assessment
+from .evaluate import Evaluator
 from .constellation import Fleet, default_fleet, parse_elements, shells_fleet
 from .fileio import read_text
 from .horizon import HorizonMask
 from .magnetic import Declination, declination
-from .site import Site, WindowSpec, resolve_window
+from .site import Site
+from .window import WindowSpec, resolve_window
 from .tracks import Observer, SkyTracks, compute_tracks
 from .words import length
 
@@ -62,6 +64,8 @@ class SiteRun:
     tracks: SkyTracks
     assessment: Assessment
     warnings: list[str] = field(default_factory=list)
+    evaluator: Evaluator | None = None  # figures for other masks over these tracks (evaluate.py)
+    fleet_source: tuple[str, str, str] = ("default", "", "")  # FleetChoice.as_embedded(), read once
 
 
 def site_observer(site: Site) -> Observer:
@@ -136,23 +140,25 @@ class TrackCache:
     """The fleet and sky tracks of the last run, kept for the next one (the text
     UI re-assesses after every horizon edit).  Tracks depend only on the fleet
     file, the window, the observer point and the terminal's usable sky; when all
-    four are unchanged they are reused, so a new mask costs milliseconds."""
+    four are unchanged they are reused, with their evaluator (the scheduling
+    assignment), so a new mask costs milliseconds."""
 
     def __init__(self):
         self._key = None
         self._fleet: Fleet | None = None
         self._tracks: SkyTracks | None = None
+        self.evaluator: Evaluator | None = None
 
     @staticmethod
-    def key(fleet_choice: FleetChoice, window: WindowSpec, observer: Observer, terminal) -> tuple:
-        kind, name, text = fleet_choice.as_embedded()
+    def key(fleet_source: tuple[str, str, str], window: WindowSpec, observer: Observer, terminal) -> tuple:
+        kind, name, text = fleet_source
         return (kind, name, hash(text), window, observer, terminal)
 
     def get(self, key):
         return (self._fleet, self._tracks) if key == self._key else (None, None)
 
     def put(self, key, fleet: Fleet, tracks: SkyTracks) -> None:
-        self._key, self._fleet, self._tracks = key, fleet, tracks
+        self._key, self._fleet, self._tracks, self.evaluator = key, fleet, tracks, None
 
 
 def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, hours=None,
@@ -165,17 +171,24 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
         site = replace(site, terminal=replace(site.terminal, min_elevation_deg=float(min_elevation_deg)))
     window = resolve_window(site, start, hours, step_s, now=now)
     observer = site_observer(site)
-    key = TrackCache.key(fleet_choice, window, observer, site.terminal) if cache is not None else None
+    source = fleet_choice.as_embedded()  # the fleet file is read here, once
+    key = TrackCache.key(source, window, observer, site.terminal) if cache is not None else None
     fleet, tracks = cache.get(key) if cache is not None else (None, None)
     if fleet is None:
-        fleet = fleet_choice.load(window.start)
+        fleet = FleetChoice(embedded=source).load(window.start)
     dec = declination(site.latitude_deg, site.longitude_deg, site.elevation_m, window.start)
     mask = true_mask(site, dec)
     if tracks is None:
         tracks = compute_tracks(fleet, observer, window, site.terminal, progress=progress)
         if cache is not None:
             cache.put(key, fleet, tracks)
-    result = assess(tracks, mask, site.criteria, site.schedule)
+    evaluator = cache.evaluator if cache is not None else None
+    if evaluator is None or evaluator.tracks is not tracks:
+        evaluator = Evaluator(tracks, site.criteria, site.schedule)
+    evaluator = evaluator.for_site(site.criteria, site.schedule)
+    if cache is not None:
+        cache.evaluator = evaluator
+    result = evaluator.assess(mask)
     notes = []
     if fleet.illustrative:
         notes.append("satellites are leosite's illustrative shells, not a real constellation: "
@@ -191,7 +204,7 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
         notes.append(f"SGP4 reported errors for {tracks.failed_sats} satellites (decayed or bad elements); "
                      "their failed samples are left out")
     notes.extend(result.warnings)
-    return SiteRun(site, window, fleet, dec, mask, tracks, result, notes)
+    return SiteRun(site, window, fleet, dec, mask, tracks, result, notes, evaluator, source)
 
 
 def mount_dict(site: Site) -> dict:

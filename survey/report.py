@@ -25,7 +25,8 @@ from datetime import datetime, timezone
 from pathlib import Path
 
 from . import __version__
-from .assess import Assessment, Sector, assess
+from .assess import Assessment, Sector
+from .evaluate import Evaluator
 from .errors import InputError
 from .fileio import atomic_write_bytes, read_text
 from .pipeline import FleetChoice, SiteRun, mount_dict, mount_text, result_dict
@@ -53,9 +54,11 @@ def _sector_name(sec: Sector) -> str:
 
 
 def what_if_cleared(run: SiteRun, sector: Sector) -> Assessment:
-    """``run`` re-assessed with ``sector``'s mask set to zero (the tracks are reused)."""
+    """``run`` re-assessed with ``sector``'s mask set to zero (the tracks and the
+    scheduling assignment are reused: evaluate.Evaluator)."""
     mask = run.mask.with_sector_cleared(sector.from_deg, sector.to_deg)
-    return assess(run.tracks, mask, run.site.criteria, run.site.schedule)
+    evaluator = run.evaluator or Evaluator(run.tracks, run.site.criteria, run.site.schedule)
+    return evaluator.assess(mask)
 
 
 def recommendations(run: SiteRun) -> list[dict]:
@@ -203,8 +206,10 @@ def site_document(site: Site) -> dict:
     return doc
 
 
-def report_inputs(run: SiteRun, fleet_choice: FleetChoice) -> dict:
-    kind, name, text = fleet_choice.as_embedded()
+def report_inputs(run: SiteRun) -> dict:
+    """Every input of the run, for the report JSON: the site with its horizon
+    inline, the window, and the fleet file's text as the run read it."""
+    kind, name, text = run.fleet_source
     w = run.window
     site_doc = site_document(run.site)
     site_doc["window"] = {"start": w.start.strftime("%Y-%m-%dT%H:%M:%SZ"), "hours": w.hours, "step_s": w.step_s}
@@ -252,7 +257,7 @@ def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
     generated = (generated or datetime.now(timezone.utc)).astimezone(timezone.utc).replace(microsecond=0)
     s, a, w = run.site, run.assessment, run.window
     result = result_dict(run)
-    inputs = report_inputs(run, fleet_choice)
+    inputs = report_inputs(run)
     rid = report_id(inputs, generated)
     sv = s.survey
 
@@ -430,9 +435,12 @@ def format_for(path: str | Path) -> str:
 
 
 def render_report(run: SiteRun, fmt: str, paper: str = "a4", fleet_choice: FleetChoice = FleetChoice(),
-                  generated: datetime | None = None) -> bytes:
-    """The report as file contents in ``fmt`` (pdf | html | json)."""
-    ranking = spot_ranking(run)
+                  generated: datetime | None = None, ranking=None) -> bytes:
+    """The report as file contents in ``fmt`` (pdf | html | json).  ``ranking``
+    (spots.rank_spots of this run, such as the text UI's Spots tab holds) is used
+    as it is; without one the plan's candidates are ranked here."""
+    if ranking is None or getattr(ranking.evaluator, "run", None) is not run:
+        ranking = spot_ranking(run)
     model = report_model(run, fleet_choice, generated, ranking)
     if fmt == "json":
         return (json.dumps(_json_model(model), indent=2, ensure_ascii=False) + "\n").encode("utf-8")
@@ -461,13 +469,14 @@ def _json_model(model: dict) -> dict:
 
 
 def write_report(run: SiteRun, out: str | Path, paper: str = "a4", fleet_choice: FleetChoice = FleetChoice(),
-                 generated: datetime | None = None) -> Path:
-    """Write the report to ``out`` (format from its extension), atomically."""
+                 generated: datetime | None = None, ranking=None) -> Path:
+    """Write the report to ``out`` (format from its extension), atomically;
+    ``ranking`` as for render_report."""
     out = Path(out)
     fmt = format_for(out)
     if paper not in PAPERS:
         raise InputError(f"--paper: {paper!r} is not one of: {', '.join(PAPERS)}")
-    atomic_write_bytes(out, render_report(run, fmt, paper, fleet_choice, generated))
+    atomic_write_bytes(out, render_report(run, fmt, paper, fleet_choice, generated, ranking))
     return out
 
 

@@ -76,19 +76,6 @@ class Schedule:
 
 
 @dataclass(frozen=True)
-class WindowSpec:
-    """Times ``start + k*step_s`` for k = 0..N-1, N = floor(hours*3600/step_s)."""
-
-    start: datetime
-    hours: float = 24.0
-    step_s: float = 15.0
-
-    @property
-    def count(self) -> int:
-        return int(math.floor(self.hours * 3600.0 / self.step_s + 1e-9))
-
-
-@dataclass(frozen=True)
 class Site:
     name: str
     latitude_deg: float
@@ -269,21 +256,3 @@ def _mount_at(m: Table, problems: Problems) -> tuple[float, float] | None:
                                      f"(at most {r:,.0f} m, as on a site plan)")
         return None
     return east, north
-
-
-def resolve_window(site: Site, start: datetime | None = None, hours: float | None = None,
-                   step_s: float | None = None, now: datetime | None = None) -> WindowSpec:
-    """The window to assess: command-line values, else the site's [window], else
-    today 00:00 UTC for 24 h at 15 s."""
-    now = now or datetime.now(timezone.utc)
-    today = now.replace(hour=0, minute=0, second=0, microsecond=0)
-    spec = WindowSpec(
-        start or site.window.get("start") or today,
-        hours if hours is not None else site.window.get("hours", 24.0),
-        step_s if step_s is not None else site.window.get("step_s", 15.0),
-    )
-    if spec.count < 1:
-        raise InputError(f"window: {spec.hours} h at {spec.step_s} s steps holds no sample")
-    if spec.count > 2_000_000:
-        raise InputError(f"window: {spec.count} samples per satellite is too many; use a longer step or fewer hours")
-    return spec

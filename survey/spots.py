@@ -28,7 +28,7 @@ from datetime import datetime, timezone
 import numpy as np
 import shapely
 
-from .assess import availability_of, down_under, interruption_of, schedule_assignment
+from .evaluate import Evaluator
 from .errors import InputError, Problems
 from .horizon import HorizonMask
 from .plan import (
@@ -228,7 +228,7 @@ class SpotEvaluator:
         site, tracks = run.site, run.tracks
         self.scene, self.far_deg = site_scene(site, run.declination.declination_deg, plan)
         self.tracks = tracks
-        self.assignment = schedule_assignment(tracks, site.schedule.reassign_s)
+        self.evaluator = run.evaluator or Evaluator(tracks, site.criteria, site.schedule)
         # np.interp's own arithmetic on whole-degree knots, with the bin found once:
         # mask(a) = (m[k+1] - m[k]) * (a - k) + m[k], k = floor(a), as in HorizonMask.
         a = np.asarray(tracks.az_deg, dtype=np.float64) % 360.0
@@ -257,11 +257,7 @@ class SpotEvaluator:
         key = mask_deg.tobytes()
         hit = self._cache.get(key)
         if hit is None:
-            blocked = self.blocked(mask_deg)
-            usable = len(self.tracks)
-            bf = int(np.count_nonzero(blocked)) / usable if usable else None
-            hit = (bf, availability_of(self.tracks, blocked),
-                   interruption_of(down_under(self.assignment, blocked)))
+            hit = self.evaluator.figures(self.blocked(mask_deg))
             if len(self._cache) < 4096:
                 self._cache[key] = hit
         return hit
@@ -338,10 +334,7 @@ def rank_spots(run, plan: Plan | None = None, years: float = 0.0, spacing_m: flo
     over_time = [(y, ev.evaluate([best], y)[0]) for y in growth_years(years)]
     a = run.assessment
     if site.mount.at is not None:  # the run is at the placed mount: the survey point needs its own figures
-        from .assess import assess
-
-        a = assess(run.tracks, site.horizon.to_true(run.declination.declination_deg).mask(), site.criteria,
-                   site.schedule)
+        a = ev.evaluator.assess(site.horizon.to_true(run.declination.declination_deg).mask())
     survey_point = {"east_m": 0.0, "north_m": 0.0, "height_m": site.horizon_height_m,
                     "blocked_fraction": a.blocked_fraction, "availability": a.availability,
                     "interruption": a.interruption, "horizon": "measured"}

@@ -32,7 +32,8 @@ from datetime import datetime, timedelta, timezone
 import numpy as np
 
 from .constellation import MU_KM3_S2, Fleet, julian_date_utc
-from .site import Terminal, WindowSpec
+from .site import Terminal
+from .window import WindowSpec
 
 EARTH_SPIN_RAD_S = 7.2921150e-5  # WGS84 nominal mean angular velocity
 CHUNK_POINTS = 12_000_000  # satellites x sub-grid points per chunk: bounds memory

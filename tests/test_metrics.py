@@ -15,7 +15,8 @@ from survey.assess import assess, runs, schedule_down, verdict_for
 from survey.constellation import Shell, walker_fleet
 from survey.horizon import HorizonMask, HorizonPoint, HorizonProfile
 from survey.pipeline import run_site
-from survey.site import Criteria, Schedule, Terminal, WindowSpec, load_site
+from survey.site import Criteria, Schedule, Terminal, load_site
+from survey.window import WindowSpec
 from survey.tracks import Observer, compute_tracks
 
 from .conftest import MINIMAL_SITE, START

@@ -28,7 +28,8 @@ import pytest
 from skyfield.api import EarthSatellite, load, wgs84
 
 from survey.constellation import Shell, kepler_mean_motion_rad_s, walker_fleet
-from survey.site import Terminal, WindowSpec
+from survey.site import Terminal
+from survey.window import WindowSpec
 from survey.tracks import Observer, compute_tracks, coverage_angle_rad
 
 MU = 398600.4418  # km^3/s^2, WGS84 (from memory)

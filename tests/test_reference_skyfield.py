@@ -38,7 +38,8 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from survey.constellation import Fleet, Shell, default_fleet, parse_tle, walker_fleet
-from survey.site import Terminal, WindowSpec
+from survey.site import Terminal
+from survey.window import WindowSpec
 from survey.tracks import Observer, compute_tracks
 
 TS = load.timescale(builtin=True)  # builtin: no downloads (offline)

@@ -152,7 +152,7 @@ def test_criteria_order_checked(write_site):
 def test_window_defaults_and_overrides(write_site):
     from datetime import datetime, timezone
 
-    from survey.site import resolve_window
+    from survey.window import resolve_window
 
     site = load_site(write_site(MINIMAL_SITE))
     now = datetime(2026, 7, 9, 15, 42, tzinfo=timezone.utc)
