@@ -17,6 +17,7 @@ import numpy as np
 
 from .errors import InputError, Problems
 from .fileio import read_text
+from .tables import is_number
 
 
 @dataclass(frozen=True)
@@ -165,22 +166,18 @@ def parse_point(raw, where: str, problems: Problems) -> HorizonPoint | None:
     return _check_point(az, el, dist, label, where, problems)
 
 
-def _is_number(x) -> bool:
-    return isinstance(x, (int, float)) and not isinstance(x, bool) and np.isfinite(x)
-
-
 def _check_point(az, el, dist, label, where, problems: Problems) -> HorizonPoint | None:
     ok = True
-    if not _is_number(az):
+    if not is_number(az):
         problems.add(where, f"azimuth must be a number of degrees, got {az!r}")
         ok = False
-    if not _is_number(el):
+    if not is_number(el):
         problems.add(where, f"elevation must be a number of degrees, got {el!r}")
         ok = False
     elif not 0.0 <= el <= 90.0:
         problems.add(where, f"elevation {el} is outside 0 to 90 degrees")
         ok = False
-    if dist is not None and (not _is_number(dist) or dist <= 0):
+    if dist is not None and (not is_number(dist) or dist <= 0):
         problems.add(where, f"distance must be a positive number of metres, got {dist!r}")
         ok = False
     if not isinstance(label, str):

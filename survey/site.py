@@ -89,7 +89,7 @@ class Site:
     window: dict = field(default_factory=dict)  # the [window] table as typed (start/hours/step_s)
     survey: dict = field(default_factory=dict)  # [survey]: surveyor, organisation, customer, notes, date
     path: Path | None = None
-    plan: Plan | None = None  # [plan]: obstacles and candidate spots (survey/plan.py)
+    plan: Plan | None = None  # [plan]: obstacles and candidate spots (survey/plan/)
     # [horizon] measured_height_m: the height above ground at the site point the
     # points were measured from.  While the antenna is there (no mount.at) it is
     # the mount height, kept in step by __post_init__; moving the mount with

@@ -2,7 +2,7 @@
 
 Every candidate (mounting-area grid points, pole heights, fixed points) gets a
 mask: the derived horizon of the plan's obstacles and of the measured points that
-carry a distance (survey/plan.py), raised to the far-away measured points' mask
+carry a distance (survey/plan/), raised to the far-away measured points' mask
 (points without a distance apply unchanged everywhere).  The mask is the
 piecewise-linear HorizonMask through its values at true azimuths 0, 1, ..., 359:
 mask_deg(az) = max(derived(az), far(az)) at each whole degree.  The figures are

@@ -10,6 +10,12 @@ import math
 from .errors import Problems
 
 
+def is_number(x) -> bool:
+    """A finite int or float that is not a bool: how a raw value read from a file
+    (TOML, CSV, GeoJSON) passes as a number before its range is checked."""
+    return isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
+
+
 class Table:
     """Typed access to one TOML table (``name`` is how fields are reported)."""
 

@@ -454,7 +454,8 @@ def test_panel_method_against_an_independent_ray_march():
     look up the obstacle top under every step (shapely point-in-polygon, the gable
     roof's height, the tree's disc) and keep the highest elevation.  The march can
     only miss an edge by less than one step, so it may read a little low, never high."""
-    from survey.plan import Building, Plan, Prism, Tree, _roof_function
+    from survey.plan import Building, Plan, Prism, Tree
+    from survey.plan.scene import _roof_function
 
     plan = Plan(buildings=(Building("house", ((-4.0, 6.0), (4.0, 6.0), (4.0, 14.0), (-4.0, 14.0)), 4.0,
                                     ((0.0, 6.0), (0.0, 14.0)), 7.5),),
