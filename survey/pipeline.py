@@ -9,14 +9,14 @@ from dataclasses import dataclass, field, replace
 from datetime import datetime
 from pathlib import Path
 
-import numpy as np
 
 from .assess import Assessment
 from .evaluate import Evaluator
 from .constellation import Fleet, default_fleet, parse_elements, shells_fleet
 from .fileio import read_text
 from .horizon import HorizonMask
-from .magnetic import Declination, declination
+from .magnetic import Declination
+from .mask import site_mask
 from .site import Site
 from .window import WindowSpec, resolve_window
 from .tracks import Observer, SkyTracks, compute_tracks
@@ -75,42 +75,6 @@ def site_observer(site: Site) -> Observer:
     satellite's direction by at most d / range), so its figures equal the
     ranking's for that spot."""
     return Observer(site.latitude_deg, site.longitude_deg, site.elevation_m + site.horizon_height_m)
-
-
-def true_mask(site: Site, dec: Declination) -> HorizonMask:
-    """The mask the antenna sees, in true azimuths (compass bearings rotated): the
-    measured horizon as-is at the survey point, or, with ``mount.at``, the horizon
-    derived there (``derived_mask``)."""
-    if site.mount.at is not None:
-        return derived_mask(site, dec.declination_deg)
-    return site.horizon.to_true(dec.declination_deg).mask()
-
-
-def derived_mask(site: Site, declination_deg: float) -> HorizonMask:
-    """The horizon at ``site.mount.at``, ``mount.height_m`` above ground: the plan's
-    obstacles and the measured points with a distance (seen from
-    ``site.horizon_height_m`` at the survey point), raised to the far points'
-    mask; whole degrees, the same mask as spots.SpotEvaluator.mask_for."""
-    from .plan import AZIMUTHS_DEG, derived_horizon_labels, derived_horizons
-    from .spots import site_scene  # spots imports assess, which imports site: keep it lazy
-
-    east, north = site.mount.at
-    surveyed = replace(site, mount=replace(site.mount, height_m=site.horizon_height_m))
-    scene, far_deg = site_scene(surveyed, declination_deg)
-    derived = derived_horizons(scene, [east], [north], [site.mount.height_m])[0]
-    el = np.maximum(derived, far_deg)
-    # Each degree named after what sets it: the obstacle, or the nearest far point.
-    near = derived_horizon_labels(scene, east, north, site.mount.height_m)
-    far_points = [p for p in site.horizon.to_true(declination_deg).points if p.distance_m is None]
-    labels = tuple(near[k] if derived[k] >= far_deg[k] else _nearest_label(far_points, k) for k in range(360))
-    return HorizonMask(AZIMUTHS_DEG, el, labels)
-
-
-def _nearest_label(points, azimuth_deg: float) -> str:
-    if not points:
-        return ""
-    gap = [abs((p.azimuth_deg - azimuth_deg + 180.0) % 360.0 - 180.0) for p in points]
-    return points[gap.index(min(gap))].label
 
 
 def mount_warnings(site: Site) -> list[str]:
@@ -176,8 +140,7 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
     fleet, tracks = cache.get(key) if cache is not None else (None, None)
     if fleet is None:
         fleet = FleetChoice(embedded=source).load(window.start)
-    dec = declination(site.latitude_deg, site.longitude_deg, site.elevation_m, window.start)
-    mask = true_mask(site, dec)
+    dec, mask = site_mask(site, window.start)
     if tracks is None:
         tracks = compute_tracks(fleet, observer, window, site.terminal, progress=progress)
         if cache is not None:

@@ -12,6 +12,7 @@ from dataclasses import dataclass, field
 from datetime import datetime, timezone
 from pathlib import Path
 
+from .demos import resolve_site_path
 from .errors import InputError, Problems
 from .fileio import parse_toml, read_text
 from .horizon import HorizonProfile, parse_point, read_horizon_csv
@@ -137,8 +138,9 @@ def parse_time(text, where: str, problems: Problems) -> datetime | None:
 
 
 def load_site(path: str | Path) -> Site:
-    """Read and validate a site file; raises InputError listing every problem."""
-    path = Path(path)
+    """Read and validate a site file (or ``demo:NAME``, a bundled demo site: see
+    demos.py); raises InputError listing every problem."""
+    path = resolve_site_path(path)
     return site_from_dict(parse_toml(read_text(path, "site file"), str(path)), path)
 
 

@@ -23,7 +23,6 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from datetime import datetime, timezone
 
 import numpy as np
 import shapely
@@ -398,10 +397,9 @@ def horizon_at(run_or_site, east_m: float, north_m: float, height_m: float, year
     else:
         site, dec = run_or_site, 0.0
         if site.horizon.reference == "magnetic":
-            from .magnetic import declination
+            from .mask import site_declination
 
-            when = site.window.get("start") or datetime.now(timezone.utc)
-            dec = declination(site.latitude_deg, site.longitude_deg, site.elevation_m, when).declination_deg
+            dec = site_declination(site).declination_deg  # the window's start, as every run takes it
     scene, far_deg = site_scene(site, dec, plan)
     el = np.maximum(derived_horizons(scene, [east_m], [north_m], [height_m], years)[0], far_deg)
     return {"azimuth_deg": [int(a) for a in AZIMUTHS_DEG], "elevation_deg": [round(float(x), 3) for x in el],

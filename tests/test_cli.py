@@ -282,3 +282,15 @@ def test_window_options_state_the_precedence_rule(command, capsys):
         part = text.split(f"{option} ", 2)[-1].split(" --", 1)[0]
         assert "this flag, else the site's " + table_key in part and default in part, (option, part)
     assert "(default 24)" not in text
+
+
+def test_demo_name_works_as_the_site_argument(capsys, tmp_path):
+    """README: `demo:NAME` names a bundled demo site for every command."""
+    code, out, _ = run(["assess", "demo:tussock-ridge-croft", "--json", "--hours", "1", "--step", "60"], capsys)
+    assert code == 0 and json.loads(out)["site"]["name"] == "Tussock Ridge croft"
+    code, _, err = run(["assess", "demo:no-such-place"], capsys)
+    assert code == 2 and "no such demo site" in err and "alder-brook-farm" in err and "Traceback" not in err
+    out_file = tmp_path / "r.json"
+    code, _, _ = run(["report", "demo:alder-brook-farm", "--out", str(out_file), "--hours", "1", "--step", "60"],
+                     capsys)
+    assert code == 0 and out_file.exists()

@@ -17,7 +17,7 @@ from hypothesis import strategies as st
 from survey.assess import assess, blocked_samples, schedule_down
 from survey.errors import InputError
 from survey.pipeline import FleetChoice, run_site
-from survey.plan import Building, Plan, Pole, Tree, derived_horizon, measured_obstacles
+from survey.plan import Building, Plan, Pole, Tree
 from survey.site import load_site
 from survey.spots import (
     Candidate,

@@ -1,0 +1,44 @@
+"""The engine's front door: what the text UI and scripts use.
+
+A site in, figures out::
+
+    from survey import api
+
+    site = api.load_site("demo:alder-brook-farm")
+    run = api.run_site(site)                    # window, fleet, declination, mask, tracks, figures
+    print(api.pct(run.assessment.blocked_fraction), run.assessment.verdict)
+    ranking = api.rank_spots(run)               # when the site has a plan
+    api.write_report(run, "report.pdf", ranking=ranking)
+
+Every name here is a stable part of the engine; the modules behind it own one
+concept each (README, "Layout").  Nothing outside ``survey`` needs a private
+(``_name``) engine symbol, and ``survey`` never imports the text UI.
+"""
+
+from __future__ import annotations
+
+from .angles import format_dms, parse_angle
+from .demos import DemoSite, bundled_demo, demo_sites, resolve_site_path
+from .errors import InputError, Problems
+from .evaluate import Evaluator
+from .fileio import parse_toml, read_text
+from .horizon import HorizonMask, HorizonPoint, HorizonProfile, parse_point, read_horizon_csv
+from .mask import site_declination, site_mask
+from .pipeline import FleetChoice, SiteRun, TrackCache, run_site
+from .report import format_for, pole_text, recommendations, write_report
+from .safety import notes_for, short_note, spot_note
+from .site import MOUNT_KINDS, Mount, Schedule, Site, Terminal, load_site, parse_time, site_from_dict
+from .sitefile import save_site
+from .spots import horizon_at, rank_spots
+from .window import WindowSpec, resolve_window, window_start
+from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, pct, utc
+
+__all__ = [
+    "MOUNT_KINDS", "NBSP", "DemoSite", "Evaluator", "FleetChoice", "HorizonMask", "HorizonPoint", "HorizonProfile",
+    "InputError", "Mount", "Problems", "Schedule", "Site", "SiteRun", "Terminal", "TrackCache", "WindowSpec",
+    "azimuth", "azimuth_span", "bundled_demo", "demo_sites", "duration", "elevation", "format_dms", "format_for",
+    "horizon_at", "length", "load_site", "notes_for", "parse_angle", "parse_point", "parse_time", "parse_toml",
+    "pct", "pole_text", "rank_spots", "read_horizon_csv", "read_text", "recommendations", "resolve_site_path",
+    "resolve_window", "run_site", "save_site", "short_note", "site_declination", "site_from_dict", "site_mask",
+    "spot_note", "utc", "window_start", "write_report",
+]

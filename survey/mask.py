@@ -1,0 +1,68 @@
+"""The site's mask: the declination for its compass bearings, and the horizon
+the antenna sees, measured or derived from the site plan.  One function
+(:func:`site_mask`) gives both, for the pipeline, the horizon at another point
+and the text UI's horizon preview, so they never differ.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from datetime import datetime
+
+import numpy as np
+
+from .horizon import HorizonMask
+from .magnetic import Declination, declination
+from .site import Site
+from .window import window_start
+
+
+def site_declination(site: Site, when: datetime | None = None, now: datetime | None = None) -> Declination:
+    """The WMM declination at the site at ``when`` (default: the window's start by
+    window.py's rule: the site's [window] start, else today 00:00 UTC)."""
+    when = window_start(site, when, now)
+    return declination(site.latitude_deg, site.longitude_deg, site.elevation_m, when)
+
+
+def site_mask(site: Site, when: datetime | None = None, now: datetime | None = None) -> tuple[Declination, HorizonMask]:
+    """(declination, mask) for ``site`` at ``when`` (as site_declination): the
+    mask in true azimuths, the measured horizon as-is at the survey point, or,
+    with ``mount.at``, the horizon derived there (``derived_mask``)."""
+    dec = site_declination(site, when, now)
+    return dec, true_mask(site, dec)
+
+
+def true_mask(site: Site, dec: Declination) -> HorizonMask:
+    """The mask the antenna sees, in true azimuths (compass bearings rotated): the
+    measured horizon as-is at the survey point, or, with ``mount.at``, the horizon
+    derived there (``derived_mask``)."""
+    if site.mount.at is not None:
+        return derived_mask(site, dec.declination_deg)
+    return site.horizon.to_true(dec.declination_deg).mask()
+
+
+def derived_mask(site: Site, declination_deg: float) -> HorizonMask:
+    """The horizon at ``site.mount.at``, ``mount.height_m`` above ground: the plan's
+    obstacles and the measured points with a distance (seen from
+    ``site.horizon_height_m`` at the survey point), raised to the far points'
+    mask; whole degrees, the same mask as spots.SpotEvaluator.mask_for."""
+    from .plan import AZIMUTHS_DEG, derived_horizon_labels, derived_horizons
+    from .spots import site_scene  # spots imports assess, which imports site: keep it lazy
+
+    east, north = site.mount.at
+    surveyed = replace(site, mount=replace(site.mount, height_m=site.horizon_height_m))
+    scene, far_deg = site_scene(surveyed, declination_deg)
+    derived = derived_horizons(scene, [east], [north], [site.mount.height_m])[0]
+    el = np.maximum(derived, far_deg)
+    # Each degree named after what sets it: the obstacle, or the nearest far point.
+    near = derived_horizon_labels(scene, east, north, site.mount.height_m)
+    far_points = [p for p in site.horizon.to_true(declination_deg).points if p.distance_m is None]
+    labels = tuple(near[k] if derived[k] >= far_deg[k] else _nearest_label(far_points, k) for k in range(360))
+    return HorizonMask(AZIMUTHS_DEG, el, labels)
+
+
+def _nearest_label(points, azimuth_deg: float) -> str:
+    if not points:
+        return ""
+    gap = [abs((p.azimuth_deg - azimuth_deg + 180.0) % 360.0 - 180.0) for p in points]
+    return points[gap.index(min(gap))].label
