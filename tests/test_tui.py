@@ -17,6 +17,7 @@ pytest.importorskip("textual")
 
 from survey.pipeline import run_site  # noqa: E402
 from survey.site import load_site  # noqa: E402
+from survey.words import pct  # noqa: E402
 from tui.app import LeositeApp  # noqa: E402
 from tui.panes.horizon_editor import HorizonEditor, parse_entry  # noqa: E402
 from tui.panes.site_form import SiteForm  # noqa: E402
@@ -88,7 +89,7 @@ def test_whole_workflow_open_edit_export_quit(tmp_path):
             first = app.latest
             text = status_text(app)
             assert "Alder Brook farmhouse" in text and "MARGINAL" in text
-            assert f"{100 * first.assessment.blocked_fraction:.1f} %" in text
+            assert pct(first.assessment.blocked_fraction) in text  # the one percentage format
 
             await until(pilot, lambda: app.advice, what="the what-if advice")
             advice = str(app.workspace.query_one("#advice").render())
@@ -104,7 +105,7 @@ def test_whole_workflow_open_edit_export_quit(tmp_path):
             second = app.latest
             assert second.tracks is first.tracks  # the horizon edit reused the cached tracks
             assert second.assessment.blocked_fraction > first.assessment.blocked_fraction
-            assert f"{100 * second.assessment.blocked_fraction:.1f} %" in status_text(app)
+            assert pct(second.assessment.blocked_fraction) in status_text(app)
 
             await until(pilot, lambda: not app.session.dirty, what="autosave")
             clean = run_site(load_site(site_file), hours=HOURS)  # what the command line would say
@@ -544,5 +545,135 @@ def test_pasted_lines_become_points_and_bad_bearings_are_refused(tmp_path):
             await pilot.press("enter")
             assert len(app.workspace.query_one(HorizonEditor).profile.points) == n + 3  # refused, not wrapped
             await pilot.press("ctrl+q")
+
+    drive(scenario())
+
+
+def shown_text(widget) -> str:
+    """What a Static shows, as plain text (any rich renderable)."""
+    import io
+
+    from rich.console import Console
+
+    console = Console(width=100, file=io.StringIO(), record=True)
+    console.print(widget.content)
+    return console.export_text()
+
+
+def test_a_refused_field_shows_its_reason_on_the_findings_tab(tmp_path):
+    """The Findings tab says what holds the assessment up (the field, its
+    reason and the way there), not "Assessing…"; the figures name the
+    scheduling period as the setting it is."""
+    site_file = demo_copy(tmp_path)
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            ws = app.workspace
+            held = ws.query_one("#held")
+            assert not held.display
+            assert "of the time down (scheduling period 15 s)" in shown_text(ws.query_one("#figures"))
+            assert "default 15 s; set it to what your network uses" in shown_text(ws.query_one("#assessed"))
+            await pilot.press("f2")
+            lat = ws.query_one("#f-site-latitude")
+            lat.focus()
+            lat.value = "95.5"
+            await pilot.pause(0.3)
+            reason = ws.query_one(SiteForm).problems["site.latitude"]
+            assert "90" in reason
+            await pilot.press("f5")
+            assert held.display
+            text = " ".join(shown_text(held).split())
+            assert "Not assessed" in text and f"Latitude: {reason}" in text
+            assert "F2" in text and "Site tab" in text
+            assert "from before the change" in text  # the old findings stay, said to be old
+            lat.value = "45.3182"
+            await pilot.pause(0.3)
+            assert not held.display
+            await pilot.press("ctrl+q")
+
+    drive(scenario())
+
+
+def test_a_new_site_asks_for_the_antenna_height(tmp_path):
+    """A new site starts with the antenna height blank and required: it is not
+    assessed until the height is typed, and the Findings tab says so; an
+    existing site's height is kept."""
+    from tui.fields import new_site_defaults, parse_field
+
+    assert new_site_defaults("x")["mount.height_m"] == ""
+    value, problem, _ = parse_field("mount.height_m", "")
+    assert value is None and problem == "required: measure the antenna's height above the ground (or deck)"
+
+    async def scenario():
+        app = app_for(None, tmp_path)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await pilot.press("n")
+            await type_text(pilot, "Height test")
+            await pilot.press("enter")
+            await until(pilot, lambda: isinstance(app.screen, Workspace))
+            await pilot.pause()
+            ws = app.workspace
+            assert ws.query_one("#f-mount-height_m").value == ""
+            ws.query_one("#f-site-latitude").value = "52.2"
+            ws.query_one("#f-site-longitude").value = "-0.1"
+            await pilot.pause(1.0)  # past the form's settle time
+            assert ws.query_one(SiteForm).problems == {"mount.height_m": problem}
+            assert app.latest is None and app.session.site is None  # neither assessed nor saved
+            assert "Antenna height" in status_text(app)
+            await pilot.press("f5")
+            held = ws.query_one("#held")
+            assert held.display and not ws.query_one("#verdict-box").display  # no "Assessing…" meanwhile
+            assert f"Antenna height, m: {problem}" in " ".join(shown_text(held).split())
+            ws.query_one("#f-mount-height_m").value = "3.5"
+            await until(pilot, lambda: app.latest is not None, what="the assessment")
+            assert app.latest.site.mount.height_m == 3.5 and not held.display
+            await pilot.press("ctrl+q")
+
+    drive(scenario())
+
+    site_file = demo_copy(tmp_path)  # a file that gives a height keeps it
+
+    async def existing():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            assert app.workspace.query_one("#f-mount-height_m").value == "6.5"
+            assert app.workspace.query_one(SiteForm).problems == {}
+            await pilot.press("ctrl+q")
+
+    drive(existing())
+
+
+def test_arrow_keys_move_between_dialog_buttons(tmp_path):
+    """In the quit dialog the arrow keys move the focus between the buttons,
+    the focused one shows its markers, and Enter presses it."""
+    site_file = demo_copy(tmp_path)
+
+    async def scenario():
+        app = app_for(site_file, tmp_path)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await until(pilot, lambda: app.latest is not None)
+            app.workspace.query_one("#f-site-latitude").value = "north"  # unsaved: quitting asks
+            await pilot.pause(0.2)
+            await pilot.press("ctrl+q")
+            await pilot.pause()
+            dialog = app.screen
+            assert isinstance(dialog, AskChoice)
+            stay, leave = dialog.query_one("#answer-stay"), dialog.query_one("#answer-quit")
+
+            def focused():
+                return dialog.focused.id, str(stay.label), str(leave.label)
+
+            assert focused() == ("answer-stay", "▸ Stay ◂", "  Quit without saving  ")
+            for key, where in (("right", "answer-quit"), ("left", "answer-stay"), ("down", "answer-quit"),
+                               ("up", "answer-stay"), ("left", "answer-quit")):  # round the ends too
+                await pilot.press(key)
+                assert focused()[0] == where, key
+            assert focused()[1:] == ("  Stay  ", "▸ Quit without saving ◂")
+            await pilot.press("enter")  # presses the focused button: quit without saving
+            await pilot.pause()
+            assert app.return_code == 0
 
     drive(scenario())

@@ -18,6 +18,7 @@ import pytest
 from rich.cells import cell_len
 from rich.text import Text
 
+from tui.widgets import HorizonProfile as ProfileWidget
 from tui.widgets import (
     OutageStrip,
     PlanChart,
@@ -29,7 +30,6 @@ from tui.widgets import (
     sky_chart,
     sky_chart_from,
 )
-from tui.widgets import HorizonProfile as ProfileWidget
 from tui.widgets.planchart import BEST, BUILDING, SITE, TREE
 from tui.widgets.profile import CURSOR, CURSOR_COLUMN, EIGHTHS
 from tui.widgets.skychart import BLOCKED_GLYPHS, CLEAR_GLYPHS, HATCH
@@ -342,12 +342,52 @@ def test_plan_sizes_and_monochrome():
                 assert_mono(t)
 
 
+LEGEND_WORDS = {"blocked", "building", "ridge", "tree", "wall", "site", "point", "best", "best:", "selected", "m",
+                "north", "mast", "corner", "bracket"}
+
+
+def legend_problems(lines, words=LEGEND_WORDS) -> list[str]:
+    """Legend rows (under the scale bar) with a cut item: an ellipsis, or a
+    word that is not one the legend writes (a word cut short)."""
+    rb, _ = one(lines, "\u251c")
+    bad = []
+    for row in lines[rb + 1:]:
+        cut = [w for w in row.split() if "\u2026" in w or (any(c.isalpha() for c in w) and w not in words
+                                                            and len(w) > 1)]
+        if cut:
+            bad.append(f"{row!r}: {cut}")
+    return bad
+
+
+def test_plan_legend_keeps_whole_items():
+    """The legend wraps whole items onto more rows, shortens marker and best
+    labels to their names, or leaves an item off whole: never a word cut."""
+    obstacles = [dict(kind="building", polygon=[[-5, -10], [5, -10], [5, 0], [-5, 0]],
+                      ridge=[[0, -10], [0, 0]], height_m=4, ridge_height_m=7, name="house"),
+                 dict(kind="tree", at=[12, 5], radius_m=3, height_m=15),
+                 dict(kind="wall", line=[[-10, 8], [10, 8], [14, 14]], height_m=1.5)]
+    cells = [(1.0 + i, -5.0, 1.0, 0.01 * i) for i in range(6)]
+    markers = [dict(name="north mast", kind="pole", east_m=8.0, north_m=8.0, blocked_fraction=0.02, height_m=6.0),
+               dict(name="corner bracket", kind="point", east_m=-8.0, north_m=8.0, blocked_fraction=0.04)]
+    best = dict(name="north mast", east_m=8.0, north_m=8.0, height_m=6.0, blocked_fraction=0.02)
+    for w, h in [(38, 12), (38, 14), (46, 20), (60, 16), (80, 24), (120, 40), (200, 60), (24, 10)]:
+        lines = lines_of(plan_chart(obstacles, cells, markers, best, w, h, colour=False, selected=(1.0, -5.0)))
+        assert not legend_problems(lines), (w, h, legend_problems(lines))
+        legend = "\n".join(lines[one(lines, "\u251c")[0] + 1:])
+        if h >= 16 and w >= 46:  # room for all of it: every glyph explained
+            for item in ("\u25cf", BUILDING + " building", "\u2504 ridge", TREE + " tree", "\u2500 wall",
+                         SITE + " site point", BEST + " best", "1 north mast", "A corner bracket", "[ ] selected"):
+                assert item in legend, (w, h, item)
+    wide = "\n".join(lines_of(plan_chart(obstacles, cells, markers, best, 200, 60, colour=False)))
+    assert "1 north mast 6 m 2.0%" in wide and "best: north mast 6 m 2.0%" in wide  # room: the figures too
+
+
 # ---------------------------------------------------------------- a real run
 
 @pytest.fixture(scope="module")
 def demo():
-    from survey.site import load_site
     from survey.pipeline import run_site
+    from survey.site import load_site
     from survey.spots import rank_spots
 
     run = run_site(load_site("demo_sites/alder-brook-farm/site.toml"), hours=2)

@@ -125,6 +125,7 @@ class LeositeApp(App):
         if site is None:  # a new site: the defaults the engine would assume, shown, and today's date
             for key, text in new_site_defaults(self._new_name).items():
                 form.prefill(key, text)
+        ws.show_refused()
         editor = ws.query_one(HorizonEditor)
         if site is not None:
             dec, note = self._declination(site)
@@ -597,7 +598,7 @@ class LeositeApp(App):
                 self.exit()
 
         self.push_screen(AskChoice("Quit with unsaved changes?", [("stay", "Stay"), ("quit", "Quit without saving")],
-                                   reason.capitalize() + "."), answered)
+                                   reason[:1].upper() + reason[1:] + "."), answered)
 
     def action_toggle_daylight(self) -> None:
         """A light, high-contrast theme reads better in sunlight."""

@@ -24,6 +24,7 @@ class FieldSpec:
     kind: str  # text | number | optional | latitude | longitude | choice | time
     placeholder: str = ""
     required: bool = False
+    why: str = ""  # said when a required field is blank
 
 
 FIELDS = (
@@ -32,7 +33,8 @@ FIELDS = (
     FieldSpec("site.longitude", "Longitude", "longitude", "-72.6415  or  72 38 29.4 W", True),
     FieldSpec("site.elevation_m", "Ground elevation, m", "number", "above sea level, e.g. 212"),
     FieldSpec("mount.kind", "Mount kind", "choice"),
-    FieldSpec("mount.height_m", "Antenna height, m", "number", "above the ground (or deck)"),
+    FieldSpec("mount.height_m", "Antenna height, m", "number", "above the ground (or deck), e.g. 6.5", True,
+              "measure the antenna's height above the ground (or deck)"),
     FieldSpec("terminal.min_elevation_deg", "Minimum elevation, °", "number", "terminal's lowest usable, e.g. 25"),
     FieldSpec("terminal.scan_half_angle_deg", "Field-of-view half-angle, °", "optional", "blank: no cone"),
     FieldSpec("terminal.tilt_deg", "Boresight tilt, °", "number", "0 = pointing at the zenith"),
@@ -73,7 +75,7 @@ def parse_field(key: str, text: str):
     text = text.strip()
     if not text:
         if spec.required:
-            return None, "required", ""
+            return None, "required" + (f": {spec.why}" if spec.why else ""), ""
         return None, None, ""
     note = ""
     if spec.kind in ("latitude", "longitude"):
@@ -123,9 +125,10 @@ def field_values(site: Site) -> dict[str, str]:
 
 def new_site_defaults(name: str = "", today: datetime | None = None) -> dict[str, str]:
     """A new site's fields: the engine's own defaults (so the installer sees
-    what is assumed) and today's UTC date as the survey date; no coordinates."""
+    what is assumed) and today's UTC date as the survey date; no coordinates,
+    and no antenna height (nobody mounts a dish at ground level: it is measured)."""
     texts = field_values(Site(name, 0.0, 0.0))
-    texts["site.latitude"] = texts["site.longitude"] = ""
+    texts["site.latitude"] = texts["site.longitude"] = texts["mount.height_m"] = ""
     texts["survey.date"] = (today or datetime.now(timezone.utc)).strftime("%Y-%m-%d")
     return texts
 

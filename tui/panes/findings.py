@@ -4,21 +4,25 @@ and the warnings."""
 
 from __future__ import annotations
 
+from rich.console import Group
 from rich.table import Table
 from rich.text import Text
 from textual.app import ComposeResult
-from textual.containers import VerticalScroll
+from textual.containers import Vertical, VerticalScroll
 from textual.widgets import Static
 
 from survey.pipeline import SiteRun
 from survey.render import fmt_duration
 from survey.report import pct
+from survey.site import Schedule
 
 from ..verdicts import verdict_text
 from ..widgets.timeline import OutageStrip
 
 
 class FindingsPane(VerticalScroll):
+    assessed = False  # findings shown yet
+
     def show_advice(self, advice: list[dict]) -> None:
         """What clearing each costly sector would do (report.recommendations)."""
         adv = Text()
@@ -28,19 +32,50 @@ class FindingsPane(VerticalScroll):
         self.query_one("#advice", Static).update(adv)
 
     def compose(self) -> ComposeResult:
+        yield Static("", markup=False, id="held")
         yield Static("Assessing…", markup=False, id="verdict-box")
-        yield Static("", markup=False, id="figures")
-        yield Static("Drop-outs under the scheduling model (UTC)", classes="section")
-        yield OutageStrip(id="outages")
-        yield Static("", markup=False, id="outage-list")
-        yield Static("Costliest obstructions", classes="section")
-        yield Static("", markup=False, id="sectors")
-        yield Static("", markup=False, id="advice")
-        yield Static("What was assessed", classes="section")
-        yield Static("", markup=False, id="assessed")
-        yield Static("", markup=False, id="warnings")
+        with Vertical(id="findings-body"):  # shown from the first findings on
+            yield Static("", markup=False, id="figures")
+            yield Static("Drop-outs under the scheduling model (UTC)", classes="section")
+            yield OutageStrip(id="outages")
+            yield Static("", markup=False, id="outage-list")
+            yield Static("Costliest obstructions", classes="section")
+            yield Static("", markup=False, id="sectors")
+            yield Static("", markup=False, id="advice")
+            yield Static("What was assessed", classes="section")
+            yield Static("", markup=False, id="assessed")
+            yield Static("", markup=False, id="warnings")
+
+    def on_mount(self) -> None:
+        self.query_one("#held").display = self.query_one("#findings-body").display = False
+
+    def show_held(self, refused: list[tuple[str, str]]) -> None:
+        """What holds the assessment up: each refused field of the Site tab
+        ``(label, reason)``, and the way there; [] when nothing does."""
+        held = self.query_one("#held", Static)
+        held.display = bool(refused)
+        self.query_one("#verdict-box").display = self.assessed or not refused  # never "Assessing…" meanwhile
+        if not refused:
+            return
+        n = len(refused)
+        head = Text()
+        head.append("✗ Not assessed", style="bold reverse")
+        head.append(f": {'a field' if n == 1 else f'{n} fields'} on the Site tab {'is' if n == 1 else 'are'} refused",
+                    style="bold")
+        fields = Table.grid(padding=(0, 1))
+        fields.add_column(style="bold", no_wrap=True)
+        fields.add_column(overflow="fold")
+        for label, reason in refused:
+            fields.add_row(f"  {label}:", reason)
+        foot = Text("Press F2 to fix " + ("it on the Site tab (the cursor goes to the field)." if n == 1 else
+                                          "them on the Site tab (the cursor goes to the first)."), style="bold")
+        if self.assessed:
+            foot.append("\nThe findings below are from before the change.", style="dim")
+        held.update(Group(head, fields, foot))
 
     def show_run(self, run: SiteRun) -> None:
+        self.assessed = True
+        self.query_one("#findings-body").display = self.query_one("#verdict-box").display = True
         s, a, w = run.site, run.assessment, run.window
         box = Text()
         box.append_text(verdict_text(a.verdict, big=True, light=not self.app.current_theme.dark))
@@ -58,7 +93,7 @@ class FindingsPane(VerticalScroll):
         fig.add_row("Blocked", pct(a.blocked_fraction, 2), "of the usable sky samples")
         fig.add_row("Availability", pct(a.availability, 2), "of the time an unblocked satellite is in view")
         fig.add_row("Interruption", pct(a.interruption, 2),
-                    f"of the time down (reassigned every {s.schedule.reassign_s:g} s)")
+                    f"of the time down (scheduling period {s.schedule.reassign_s:g} s)")
         fig.add_row("Drop-outs", f"{o['count_per_day']:.1f}/day",
                     f"{o['minutes_per_day']:.1f} min a day, longest {fmt_duration(o['longest_s'])}")
         self.query_one("#figures", Static).update(fig)
@@ -101,6 +136,9 @@ class FindingsPane(VerticalScroll):
         if s.terminal.scan_half_angle_deg:
             sky += f", within {s.terminal.scan_half_angle_deg:g}° of the boresight"
         assessed.append(f"Usable sky  {sky}; {a.usable_samples:,} samples, {a.blocked_samples:,} blocked\n")
+        assessed.append(f"Scheduling period  {s.schedule.reassign_s:g} s: a setting, default "
+                        f"{Schedule().reassign_s:g} s; set it to what your network uses "
+                        "(the site file's [schedule] reassign_s)\n")
         assessed.append(f"Compass  declination {run.declination.declination_deg:+.2f}° (WMM2025); bearings "
                         + ("magnetic, turned to true" if s.horizon.reference == "magnetic" else "true"))
         self.query_one("#assessed", Static).update(assessed)

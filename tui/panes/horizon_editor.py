@@ -21,6 +21,7 @@ from textual.widgets import DataTable, Input, Label, Static
 from survey.errors import Problems
 from survey.horizon import HorizonMask, HorizonPoint, HorizonProfile, parse_point
 
+from ..widgets.phrases import Phrases
 from ..widgets.profile import HorizonProfile as ProfilePreview
 
 _LEADING_NUMBER = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+))(?:[\s,;]+|$)")
@@ -77,6 +78,18 @@ def entry_text(p: HorizonPoint) -> str:
     return " ".join(parts)
 
 
+def reference_phrases(magnetic: bool, declination_deg: float | None, note: str = "") -> tuple:
+    """The line over the table: which north the bearings use, the declination
+    and the key that switches; each phrase fits the table's narrowest width."""
+    if magnetic:
+        dec = ("Declination: needs valid coordinates" if declination_deg is None else
+               f"Declination {declination_deg:+.2f}° (WMM2025) added")
+        phrases = ("Compass bearings.", "Key m: use true bearings.", dec)
+    else:
+        phrases = ("True bearings.", "Key m: use compass bearings.", "No declination added")
+    return phrases + ((None, note) if note else ())
+
+
 class HorizonEditor(Vertical):
     BINDINGS = [
         Binding("a", "add", "Add point"),
@@ -107,7 +120,7 @@ class HorizonEditor(Vertical):
     def compose(self) -> ComposeResult:
         with Horizontal(id="horizon-body"):
             with Vertical(id="horizon-left"):
-                yield Static("", markup=False, id="reference", classes="hint")
+                yield Phrases(id="reference", classes="hint")
                 table = DataTable(id="points", cursor_type="row", zebra_stripes=True)
                 yield table
                 with Horizontal(id="entry-row"):
@@ -159,7 +172,7 @@ class HorizonEditor(Vertical):
         magnetic = self.profile.reference == "magnetic"
         table.clear(columns=True)
         cols = ["#", "Cmp°" if magnetic else "Az°"] + (["True°"] if magnetic else [])
-        table.add_columns(*cols, "El°", "m", "Label")
+        table.add_columns(*cols, "El°", "Dist m", "Label")
         trues = self.true_points()
         for i, (p, t) in enumerate(zip(self.profile.points, trues)):
             row = [str(i + 1), f"{p.azimuth_deg:g}"]
@@ -171,15 +184,8 @@ class HorizonEditor(Vertical):
         if n:
             row = cursor if cursor is not None else (old if keep_cursor else min(old, n - 1))
             table.move_cursor(row=max(0, min(row, n - 1)))
-        ref = self.query_one("#reference", Static)
-        if magnetic:
-            dec = "declination not known until the coordinates are valid" if self.declination_deg is None else \
-                f"declination {self.declination_deg:+.2f}° (WMM2025) added"
-            ref.update(f"Compass bearings, {dec}.  m: true")
-        else:
-            ref.update("True bearings, no declination.  m: compass")
-        if self.declination_note:
-            ref.update(str(ref.renderable) + f"\n{self.declination_note}")
+        self.query_one("#reference", Phrases).show(*reference_phrases(
+            magnetic, self.declination_deg, self.declination_note))
         self.query_one("#entry-label", Label).update(
             "Add " if self.editing is None else f"#{self.editing + 1} ")
         self._refresh_preview()

@@ -134,12 +134,13 @@ class SiteForm(VerticalScroll):
         self._check(event.select.id.removeprefix("f-").replace("-", ".", 1))
         self._post()
 
+    def refused(self) -> list[tuple[str, str]]:
+        """Each refused field as (label, reason), in the form's order."""
+        return [(spec.label, self.problems[spec.key]) for spec in FIELDS if spec.key in self.problems]
+
     def first_problem(self) -> str | None:
         """The first refused field as 'Label: reason', for the status line."""
-        for spec in FIELDS:
-            if spec.key in self.problems:
-                return f"{spec.label}: {self.problems[spec.key]}"
-        return None
+        return next((f"{label}: {reason}" for label, reason in self.refused()), None)
 
     def on_descendant_focus(self, event) -> None:
         self._mark_row(event.widget, True)

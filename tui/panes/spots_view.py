@@ -6,13 +6,14 @@ from __future__ import annotations
 from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Horizontal, Vertical
+from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.message import Message
 from textual.widgets import DataTable, Static
 
 from survey.report import pct, pole_text
 from survey.safety import spot_note
 
+from ..widgets.phrases import Phrases
 from ..widgets.planchart import PlanChart
 
 GROWTH_STEPS = (0.0, 5.0, 10.0)
@@ -49,12 +50,13 @@ class SpotsView(Vertical):
         self.years = 0.0
 
     def compose(self) -> ComposeResult:
-        yield Static("", markup=False, id="spots-head", classes="hint")
-        with Horizontal(id="spots-body"):
-            yield PlanChart(id="plan")
-            with Vertical(id="spots-right"):
-                yield DataTable(id="ranking", cursor_type="row", zebra_stripes=True)
-                yield Static("", markup=False, id="spots-notes", classes="hint")
+        yield Phrases(id="spots-head", classes="hint")
+        with Vertical(id="spots-body"):  # the ranking across the top: every column fits from 80 columns
+            yield DataTable(id="ranking", cursor_type="row", zebra_stripes=True)
+            with Horizontal(id="spots-lower"):
+                yield PlanChart(id="plan")
+                with VerticalScroll(id="spots-side"):
+                    yield Static("", markup=False, id="spots-notes", classes="hint")
 
     def on_mount(self) -> None:
         self._head()
@@ -62,13 +64,15 @@ class SpotsView(Vertical):
     def _head(self, extra: str = "") -> None:
         has_plan = self.run is not None and self.run.site.plan is not None and self.run.site.plan.has_candidates
         if self.run is not None and not has_plan:
-            text = ("This site has no plan with candidate spots.  Add a [plan] to the site file "
-                    "(obstacles, mounting areas, poles; see the README) to rank where to mount.")
+            phrases = ("This site has no plan with candidate spots.",
+                       "To rank where to mount, add a [plan] to the site file",
+                       "(obstacles, mounting areas, poles; see the README).")
         else:
-            text = (f"r: rank  g: tree growth ({self.years:g} years)  u or ⏎: use the selected spot as the mount"
-                    + ("  b: back to the survey point" if self.run is not None and self.run.site.mount.at else "")
-                    + (f"   {extra}" if extra else ""))
-        self.query_one("#spots-head", Static).update(Text(text))
+            back = self.run is not None and self.run.site.mount.at
+            phrases = ("r: rank", f"g: tree growth ({self.years:g} years)",
+                       "u or ⏎: use the selected spot as the mount", "b: back to the survey point" if back else "",
+                       extra)
+        self.query_one("#spots-head", Phrases).show(*phrases)
         self.query_one("#spots-body").display = self.run is None or has_plan
 
     def show_run(self, run) -> None:

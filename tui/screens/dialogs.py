@@ -17,6 +17,37 @@ from survey.report import format_for
 from survey.safety import notes_for
 
 
+class DialogButton(Button):
+    """A dialog's button; the focused one shows between markers (and in reverse
+    video, see the stylesheet), so it reads on a monochrome screen too."""
+
+    def __init__(self, label: str, **kw):
+        self.caption = label
+        super().__init__(self._label(False), **kw)
+
+    def _label(self, focused: bool) -> str:
+        return f"▸ {self.caption} ◂" if focused else f"  {self.caption}  "
+
+    def on_focus(self) -> None:
+        self.label = self._label(True)
+
+    def on_blur(self) -> None:
+        self.label = self._label(False)
+
+
+class ButtonRow(Horizontal):
+    """A dialog's buttons: the arrow keys move the focus between them (round
+    the ends), Enter presses the focused one."""
+
+    BINDINGS = [Binding("left,up", "step(-1)", show=False), Binding("right,down", "step(1)", show=False)]
+
+    def action_step(self, step: int) -> None:
+        buttons = list(self.query(Button))
+        here = next((i for i, b in enumerate(buttons) if b.has_focus), None)
+        if buttons and here is not None:
+            buttons[(here + step) % len(buttons)].focus()
+
+
 class _AnswerDialog(ModalScreen):
     """A dialog around one text field (#answer): Enter or OK answers once
     ``refusal()`` has no objection, which is shown under the field otherwise;
@@ -74,9 +105,9 @@ class AskText(_AnswerDialog):
             yield Label(self.title_text, markup=False, classes="dialog-title")
             yield Input(self.value, placeholder=self.placeholder, id="answer")
             yield Static(self.hint, markup=False, id="hint", classes="hint")
-            with Horizontal(classes="buttons"):
-                yield Button("OK", variant="primary", id="ok")
-                yield Button("Cancel", id="cancel")
+            with ButtonRow(classes="buttons"):
+                yield DialogButton("OK", variant="primary", id="ok")
+                yield DialogButton("Cancel", id="cancel")
 
     def refusal(self, text: str) -> str | None:
         return self.check(text) if self.check else None
@@ -86,8 +117,7 @@ class AskChoice(ModalScreen[str | None]):
     """A question with a few answers as buttons (first is the default);
     Escape answers None."""
 
-    BINDINGS = [Binding("escape", "cancel", "Cancel"), Binding("left", "focus_previous", show=False),
-                Binding("right", "focus_next", show=False)]
+    BINDINGS = [Binding("escape", "cancel", "Cancel")]
 
     def __init__(self, question: str, answers: list[tuple[str, str]], detail: str = ""):
         super().__init__()
@@ -98,9 +128,9 @@ class AskChoice(ModalScreen[str | None]):
             yield Label(self.question, markup=False, classes="dialog-title")
             if self.detail:
                 yield Static(self.detail, markup=False, classes="hint")
-            with Horizontal(classes="buttons"):
+            with ButtonRow(classes="buttons"):
                 for i, (key, label) in enumerate(self.answers):
-                    yield Button(label, id=f"answer-{key}", variant="primary" if i == 0 else "default")
+                    yield DialogButton(label, id=f"answer-{key}", variant="primary" if i == 0 else "default")
 
     def on_mount(self) -> None:
         self.query(Button).first().focus()
@@ -132,8 +162,8 @@ class SafetyNote(ModalScreen[bool]):
             if self.before_export:
                 yield Static("The report carries this note too.  Esc goes back without writing it.",
                              classes="hint")
-            with Horizontal(classes="buttons"):
-                yield Button("Understood", variant="primary", id="understood")
+            with ButtonRow(classes="buttons"):
+                yield DialogButton("Understood", variant="primary", id="understood")
 
     def on_mount(self) -> None:
         self.query_one("#understood", Button).focus()
@@ -202,9 +232,9 @@ class ExportReport(_AnswerDialog):
                 yield Label("Paper (PDF) ", classes="paper-label")
                 yield Select([("A4 (ISO 216)", "a4"), ("US Letter", "letter")], value=self.paper,
                              allow_blank=False, compact=True, id="paper")
-            with Horizontal(classes="buttons"):
-                yield Button("Write", variant="primary", id="ok")
-                yield Button("Cancel", id="cancel")
+            with ButtonRow(classes="buttons"):
+                yield DialogButton("Write", variant="primary", id="ok")
+                yield DialogButton("Cancel", id="cancel")
 
     def refusal(self, text: str) -> str | None:
         return check_report_path(text)

@@ -67,6 +67,13 @@ class Workspace(Screen):
         elif tab == "findings":
             self.query_one(FindingsPane).focus()
 
+    def show_refused(self) -> None:
+        """The Findings tab says which refused fields hold the assessment up."""
+        self.query_one(FindingsPane).show_held(self.query_one(SiteForm).refused())
+
+    def on_site_form_changed(self, event: SiteForm.Changed) -> None:
+        self.show_refused()  # not stopped: the app takes the edit on from here
+
     def on_tabbed_content_tab_activated(self, event: TabbedContent.TabActivated) -> None:
         if event.pane.id == "spots":
             self.app.spots_tab_opened()

@@ -44,7 +44,6 @@ from . import (
     VERMILLION,
     Canvas,
     DrawingWidget,
-    fit,
     hex_colour,
     too_small,
 )
@@ -104,13 +103,20 @@ class PlanGeometry:
 
 
 def _legend_rows(height: int) -> int:
+    """Legend rows the chart keeps at this height however short the legend."""
     return 2 if height >= 16 else (1 if height >= 10 else 0)
 
 
-def plan_geometry(points_m: np.ndarray, width: int, height: int) -> PlanGeometry:
+def _legend_budget(height: int) -> int:
+    """The most legend rows at this height: a third of it, and the map keeps the rest."""
+    return max(_legend_rows(height), height // 3) if height >= 10 else 0
+
+
+def plan_geometry(points_m: np.ndarray, width: int, height: int, legend_rows: int | None = None) -> PlanGeometry:
     """The frame for data spanning ``points_m`` ((k, 2) east, north metres; the
-    site point is always included) at this size."""
-    rows = height - 1 - _legend_rows(height)
+    site point is always included) at this size, with ``legend_rows`` under the
+    scale bar (default: as few as the chart keeps at this height)."""
+    rows = height - 1 - (_legend_rows(height) if legend_rows is None else legend_rows)
     pts = np.concatenate([np.zeros((1, 2)), np.asarray(points_m, dtype=np.float64).reshape(-1, 2)])
     e0, n0 = pts.min(axis=0)
     e1, n1 = pts.max(axis=0)
@@ -189,10 +195,14 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
     markers = list(markers or ())
     st = _STYLE.get
 
+    keys = _marker_keys(markers)
+    vmax = _ramp_top(cl, markers, best)
+    legend = _legend(obs, cl, markers, keys, best, selected, vmax, width, height)
+
     pts = [_render._plan_points(obs, cl, markers, best)]  # the figure's own extent, site point included
     if selected is not None:
         pts.append(np.array([[float(selected[0]), float(selected[1])]]))
-    geo = plan_geometry(np.concatenate(pts), width, height)
+    geo = plan_geometry(np.concatenate(pts), width, height, legend_rows=len(legend))
     M, s = geo.rows, geo.s
     cv = Canvas(width, height)
     rr, cc = np.mgrid[0:M, 0:width]
@@ -231,12 +241,6 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
                 put_cells(r, c, _line_glyph(*(b - a)), st("wall"))
 
     # ---- candidate cells ---------------------------------------------------------
-    vmax = 0.05
-    fr_all = [float(f) for f in (cl[:, 3] if cl.size else []) if np.isfinite(f)]
-    fr_all += [float(mk["blocked_fraction"]) for mk in markers + ([best] if best else [])
-               if mk.get("blocked_fraction") is not None]
-    top_f = max(fr_all, default=0.0)
-    vmax = min(1.0, max(0.05, _nice_ceil(top_f) if top_f > 0 else 0.05))
     if cl.size:
         tot = np.zeros(M * width)
         cnt = np.zeros(M * width)
@@ -312,16 +316,7 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
                 break
 
     # ---- symbols -------------------------------------------------------------------
-    keys = []
-    n_pole = n_point = 0
-    for mk in markers:
-        if mk.get("kind", "point") == "pole":
-            n_pole += 1
-            key = str(n_pole) if n_pole < 10 else "#"
-        else:
-            n_point += 1
-            key = chr(ord("A") + n_point - 1) if n_point <= 26 else "#"
-        keys.append(key)
+    for key, mk in zip(keys, markers):
         r, c = geo.cell(float(mk["east_m"]), float(mk["north_m"]))
         put_cells(np.atleast_1d(r), np.atleast_1d(c), key, st("marker"))
     r, c = geo.cell(0.0, 0.0)
@@ -349,67 +344,107 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
     if x + len(note) <= width:
         cv.put(M, x, note, st("soft"))
 
-    # ---- legend --------------------------------------------------------------------
-    n_leg = _legend_rows(height)
-    if n_leg:
-        q = vmax / 4.0
-        pct = _render.compact_pct
-        ramp_items = [(RAMP[i], f"ramp{i}", f"<{pct((i + 1) * q)}" if i < 3 else f"\u2264{pct(vmax)}")
-                      for i in range(4)] if cl.size else []
-        kinds = {o.kind for o in obs}
-        sym = []
-        if kinds & {"building", "prism"}:
-            sym.append((BUILDING, "building", "building"))
-        if any(o.ridge is not None for o in obs):
-            sym.append(("\u2504", "ridge", "ridge"))
-        if "tree" in kinds:
-            sym.append((TREE, "tree", "tree"))
-        if "wall" in kinds:
-            sym.append(("\u2500", "wall", "wall"))
-        sym.append((SITE, "site", "site point"))
-        if best:
-            bits = [str(best.get("name") or "best")]
-            if best.get("height_m") is not None:
-                bits.append(f"{round(float(best['height_m']), 1):g} m")
-            if best.get("blocked_fraction") is not None:
-                bits.append(_render.compact_pct(best["blocked_fraction"]))
-            sym.append((BEST, "best", "best: " + " ".join(bits)))
-        if selected is not None:
-            sym.append(("[ ]", "selected", "selected"))
-        mk_items = []
-        for key, mk in zip(keys, markers):
-            text = str(mk.get("name") or "")
-            if mk.get("height_m") is not None:
-                text += f" {round(float(mk['height_m']), 1):g} m"
-            if mk.get("blocked_fraction") is not None:
-                text += f" {_render.compact_pct(mk['blocked_fraction'])}"
-            mk_items.append((key, "marker", text.strip()))
-
-        def write(row, items, lead=""):
-            x = 0
-            if lead:
-                x += cv.put(row, 0, lead, st("soft")) + 1
-            for i, (g, key, lab) in enumerate(items):
-                need = len(g) + 1 + len(lab) + (2 if i else 0)
-                if x + need > width:
-                    room = width - x - len(g) - 1 - (2 if i else 0)
-                    if room >= 4:
-                        x += 2 if i else 0
-                        cv.put(row, x, g, st(key))
-                        cv.put(row, x + len(g) + 1, fit(lab, room))
-                    break
-                x += 2 if i else 0
-                cv.put(row, x, g, st(key))
-                cv.put(row, x + len(g) + 1, lab)
-                x += len(g) + 1 + len(lab)
-
-        first = M + 1
-        if n_leg == 2:
-            write(first, ramp_items + mk_items, "blocked" if ramp_items else "")
-            write(first + 1, sym)
-        else:
-            write(first, ramp_items + sym + mk_items)
+    # ---- legend: whole items, packed row by row ------------------------------------
+    for row, items in enumerate(legend, start=M + 1):
+        x = 0
+        for item in items:
+            for text, key in item:
+                x += cv.put(row, x, text, st(key)) + 1
+            x += 1
     return cv.to_text(colour)
+
+
+def _marker_keys(markers) -> list[str]:
+    """The map key of each marker: poles 1, 2, .. and fixed points A, B, .."""
+    keys = []
+    n_pole = n_point = 0
+    for mk in markers:
+        if mk.get("kind", "point") == "pole":
+            n_pole += 1
+            keys.append(str(n_pole) if n_pole < 10 else "#")
+        else:
+            n_point += 1
+            keys.append(chr(ord("A") + n_point - 1) if n_point <= 26 else "#")
+    return keys
+
+
+def _ramp_top(cl, markers, best) -> float:
+    """The top of the 4-step shading: a round value at or above the largest
+    blocked fraction shown, at least 5 %."""
+    fr_all = [float(f) for f in (cl[:, 3] if cl.size else []) if np.isfinite(f)]
+    fr_all += [float(mk["blocked_fraction"]) for mk in markers + ([best] if best else [])
+               if mk.get("blocked_fraction") is not None]
+    top_f = max(fr_all, default=0.0)
+    return min(1.0, max(0.05, _nice_ceil(top_f) if top_f > 0 else 0.05))
+
+
+def _legend(obs, cl, markers, keys, best, selected, vmax, width: int, height: int) -> list[list[list]]:
+    """The legend as rows of items, each item a list of (text, style key)
+    pieces written a space apart; at most a third of ``height`` in rows of
+    ``width`` cells.  Items are never cut: a row takes whole items; markers and
+    the best spot lose their figures (height, blocked) when the long labels
+    would need more rows; what still does not fit is left off whole, from the end."""
+    budget = _legend_budget(height)
+    if budget <= 0:
+        return []
+    pct = _render.compact_pct
+    items = []  # each: its forms, longest first
+    if cl.size:
+        q = vmax / 4.0
+        ramp = [[(RAMP[i], f"ramp{i}"), (f"<{pct((i + 1) * q)}" if i < 3 else f"\u2264{pct(vmax)}", None)]
+                for i in range(4)]
+        ramp[0] = [("blocked", "soft")] + ramp[0]
+        items += [(r,) for r in ramp]
+    for key, mk in zip(keys, markers):
+        name = str(mk.get("name") or "")
+        figures = name
+        if mk.get("height_m") is not None:
+            figures += f" {round(float(mk['height_m']), 1):g} m"
+        if mk.get("blocked_fraction") is not None:
+            figures += f" {pct(mk['blocked_fraction'])}"
+        items.append(([(key, "marker"), (figures.strip(), None)], [(key, "marker"), (name, None)]))
+    kinds = {o.kind for o in obs}
+    plain = []
+    if kinds & {"building", "prism"}:
+        plain.append((BUILDING, "building", "building"))
+    if any(o.ridge is not None for o in obs):
+        plain.append(("\u2504", "ridge", "ridge"))
+    if "tree" in kinds:
+        plain.append((TREE, "tree", "tree"))
+    if "wall" in kinds:
+        plain.append(("\u2500", "wall", "wall"))
+    plain.append((SITE, "site", "site point"))
+    items += [([(g, key), (label, None)],) for g, key, label in plain]
+    if best:
+        bits = [str(best.get("name") or "best")]
+        if best.get("height_m") is not None:
+            bits.append(f"{round(float(best['height_m']), 1):g} m")
+        if best.get("blocked_fraction") is not None:
+            bits.append(pct(best["blocked_fraction"]))
+        items.append(([(BEST, "best"), ("best: " + " ".join(bits), None)], [(BEST, "best"), ("best", None)]))
+    if selected is not None:
+        items.append(([("[ ]", "selected"), ("selected", None)],))
+
+    def cells(item) -> int:
+        return sum(len(t) for t, _ in item) + len(item) - 1
+
+    def rows_at(level: int) -> list[list[list]]:
+        rows, row, x = [], [], 0
+        for forms in items:
+            item = forms[min(level, len(forms) - 1)]
+            need = cells(item)
+            if need > width:
+                continue  # wider than the chart even alone: left off whole
+            if row and x + 2 + need > width:
+                rows.append(row)
+                row, x = [], 0
+            x += need + (2 if row else 0)
+            row.append(item)
+        return rows + ([row] if row else [])
+
+    long, short = rows_at(0), rows_at(1)
+    chosen = long if len(long) <= max(len(short), _legend_rows(height)) else short
+    return chosen[:budget]
 
 
 def plan_inputs(run, ranking) -> tuple[list, list, list, dict]:

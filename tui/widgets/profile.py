@@ -238,13 +238,13 @@ def horizon_profile(mask_az_deg, mask_el_deg, width: int, height: int, points=()
 
     # ---- legend --------------------------------------------------------------------
     if legend:
-        items = [("\u2588", "fill", "obstruction", "obstr")]
+        items = [("\u2588", "fill", "obstruction", "obstacle")]  # short forms are whole words too
         if pts:
-            items.append((POINT, "point", "measured", "meas"))
+            items.append((POINT, "point", "measured", "point"))
         if me is not None:
-            items.append((MIN_LINE * 2, "min", f"min {_fmt_deg(me)}", f"min{_fmt_deg(me)}"))
+            items.append((MIN_LINE * 2, "min", f"min {_fmt_deg(me)}", f"min {_fmt_deg(me)}"))
         if cursor_az is not None:
-            items.append((CURSOR, "cursor", "selected", "sel"))
+            items.append((CURSOR, "cursor", "selected", "cursor"))
 
         def span(use_long):
             return sum(len(g) + 1 + len(lo if use_long else sh) for g, _k, lo, sh in items) \
