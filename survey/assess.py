@@ -25,6 +25,7 @@ import numpy as np
 from .horizon import HorizonMask, in_sector
 from .site import Criteria, Schedule
 from .tracks import SkyTracks, sample_time
+from .words import pct
 
 
 @dataclass(frozen=True)
@@ -265,19 +266,19 @@ def verdict_for(blocked_fraction: float | None, interruption: float, availabilit
                 criteria: Criteria) -> tuple[str, str]:
     """Verdict and the plain-words reason for it (see Criteria)."""
     if availability < criteria.min_availability:
-        return "not-qualified", (f"an unblocked satellite is in view only {availability:.1%} of the time "
-                                 f"(at least {criteria.min_availability:.1%} needed)")
+        return "not-qualified", (f"an unblocked satellite is in view only {pct(availability)} of the time "
+                                 f"(at least {pct(criteria.min_availability)} needed)")
     grades = []
     for label, value, q, m in (
         ("blocked", blocked_fraction or 0.0, criteria.qualified_max_blocked, criteria.marginal_max_blocked),
         ("interruption", interruption, criteria.qualified_max_interruption, criteria.marginal_max_interruption),
     ):
         if value <= q:
-            grades.append((0, f"{label} {value:.1%} is within the {q:.1%} limit"))
+            grades.append((0, f"{label} {pct(value)} is within the {pct(q)} limit"))
         elif value <= m:
-            grades.append((1, f"{label} {value:.1%} is above {q:.1%} but within {m:.1%}"))
+            grades.append((1, f"{label} {pct(value)} is above {pct(q)} but within {pct(m)}"))
         else:
-            grades.append((2, f"{label} {value:.1%} is above the {m:.1%} limit"))
+            grades.append((2, f"{label} {pct(value)} is above the {pct(m)} limit"))
     worst = max(g for g, _ in grades)
     reasons = [r for g, r in grades if g == worst]
     return GRADES[worst], "; ".join(reasons)

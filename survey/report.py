@@ -379,10 +379,10 @@ def method_text(run: SiteRun) -> list[str]:
         "highest usable one; if the assigned satellite is blocked the link is down until the next assignment. "
         "Blocked fraction is the share of usable samples behind obstructions; availability is "
         "the share of time with at least one unblocked satellite (the best an obstruction-aware network could do).",
-        "Verdict thresholds: qualified up to {:.0%} blocked and {:.0%} interruption, marginal up to {:.0%} and "
-        "{:.0%}; not-qualified below {:.0%} availability.".format(
-            s.criteria.qualified_max_blocked, s.criteria.qualified_max_interruption,
-            s.criteria.marginal_max_blocked, s.criteria.marginal_max_interruption, s.criteria.min_availability),
+        f"Verdict thresholds: qualified up to {pct(s.criteria.qualified_max_blocked)} blocked and "
+        f"{pct(s.criteria.qualified_max_interruption)} interruption, marginal up to "
+        f"{pct(s.criteria.marginal_max_blocked)} and {pct(s.criteria.marginal_max_interruption)}; "
+        f"not-qualified below {pct(s.criteria.min_availability)} availability.",
         "What-if figures re-assess the same satellite tracks with that sector's mask set to zero.",
     ]
 

@@ -16,10 +16,10 @@ from survey.constellation import Shell, walker_fleet
 from survey.horizon import HorizonMask, HorizonPoint, HorizonProfile
 from survey.pipeline import run_site
 from survey.site import Criteria, Schedule, Terminal, load_site
-from survey.window import WindowSpec
 from survey.tracks import Observer, compute_tracks
+from survey.window import WindowSpec
 
-from .conftest import MINIMAL_SITE, START
+from .helpers import MINIMAL_SITE, START, plain_loop_down
 
 LAT, LON, H = 45.0, -73.0, 105.0
 WINDOW = WindowSpec(START, hours=12, step_s=30)
@@ -92,41 +92,6 @@ def test_half_plane_wall_blocks_what_lies_behind_it(tracks, reference):
     behind = np.count_nonzero((az >= 90.0) & (az <= 270.0))  # counted by hand from skyfield
     assert abs(a.blocked_samples - behind) <= 1  # only the 0.001-degree ramps may differ
     assert a.blocked_fraction == pytest.approx(behind / az.size, abs=2 / az.size)
-
-
-def reassignment_instant(k, step_s, reassign_s):
-    """README, "What the figures mean": a reassignment falls on the first sample at
-    or after each multiple of reassign_s from the window start."""
-    return k == 0 or np.floor(k * step_s / reassign_s + 1e-9) != np.floor((k - 1) * step_s / reassign_s + 1e-9)
-
-
-def plain_loop_down(reference, count, step_s, reassign_s, is_blocked):
-    """The scheduling rule as the README words it, one sample time at a time, over
-    the skyfield positions of the ``reference`` fixture (not the code's tracks):
-
-    - at each reassignment instant the highest usable satellite is assigned (none:
-      the link is down until one is usable);
-    - when the assigned satellite leaves usable sky, it is replaced at that sample
-      by the highest usable satellite: that is a new assignment;
-    - when the assigned satellite is blocked, the link is down until the next
-      assignment."""
-    sat, k_of, az, el = reference
-    usable = {}  # time -> {satellite: (az, el)}
-    for i in range(sat.size):
-        usable.setdefault(int(k_of[i]), {})[int(sat[i])] = (az[i], el[i])
-    down = np.zeros(count, bool)
-    assigned, latched = None, False
-    for k in range(count):
-        here = usable.get(k, {})
-        if reassignment_instant(k, step_s, reassign_s) or assigned not in here:
-            assigned = max(here, key=lambda s: here[s][1]) if here else None
-            latched = False
-        if assigned is None:
-            down[k] = True
-            continue
-        latched = latched or is_blocked(*here[assigned])
-        down[k] = latched
-    return down
 
 
 def wall_60(az, el):
@@ -279,7 +244,7 @@ def test_verdict_thresholds():
     assert verdict_for(0.0, 0.0, 0.5, c)[0] == "not-qualified"  # too little clear sky
     strict = replace(c, qualified_max_blocked=0.005)
     assert verdict_for(0.01, 0.0, 1.0, strict)[0] == "marginal"
-    assert "blocked 5.0% is above 3.0% but within 10.0%" in verdict_for(0.05, 0.0, 1.0, c)[1]
+    assert "blocked 5.0\u00a0% is above 3.0\u00a0% but within 10.0\u00a0%" in verdict_for(0.05, 0.0, 1.0, c)[1]  # words.pct
 
 
 def test_no_satellite_in_view_is_reported(fleet):
@@ -295,7 +260,7 @@ def test_demo_site_figures_against_a_plain_skyfield_recount():
     alt/az for every satellite and sample, the compass points rotated by the
     declination by hand, the mask interpolated by numpy directly, the metrics
     counted with plain Python."""
-    from .conftest import DEMO
+    from .helpers import DEMO
 
     site = load_site(DEMO / "alder-brook-farm/site.toml")
     run = run_site(site, hours=1.5, step_s=30)

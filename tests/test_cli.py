@@ -12,7 +12,7 @@ from PIL import Image
 
 from survey.cli import main
 
-from .conftest import DEMO, MINIMAL_SITE, ROOT
+from .helpers import DEMO, MINIMAL_SITE, ROOT
 
 FAST = ["--hours", "2", "--step", "30"]
 JSON_KEYS = {"site", "window", "satellites", "declination_deg", "blocked_fraction", "availability",
@@ -225,7 +225,7 @@ def test_compass_warning_outside_wmm_validity(write_site, capsys):
     assert code == 0 and any("outside the WMM2025 validity" in w for w in d["warnings"])
 
 
-from .test_site_input import BAD_CASES, HORIZON_CASES  # noqa: E402
+from .helpers import BAD_CASES, HORIZON_CASES  # noqa: E402
 
 
 @pytest.mark.parametrize("desc,change,fragments", BAD_CASES, ids=[c[0] for c in BAD_CASES])

@@ -11,7 +11,7 @@ from PIL import Image
 
 from survey.cli import main
 
-from .conftest import DEMO, MINIMAL_SITE
+from .helpers import DEMO, MINIMAL_SITE
 
 ALDER = str(DEMO / "alder-brook-farm/site.toml")
 FAST = ["--hours", "2", "--step", "60"]

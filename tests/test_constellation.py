@@ -29,8 +29,8 @@ from skyfield.api import EarthSatellite, load, wgs84
 
 from survey.constellation import Shell, kepler_mean_motion_rad_s, walker_fleet
 from survey.site import Terminal
-from survey.window import WindowSpec
 from survey.tracks import Observer, compute_tracks, coverage_angle_rad
+from survey.window import WindowSpec
 
 MU = 398600.4418  # km^3/s^2, WGS84 (from memory)
 R_EQ = 6378.137  # km, WGS84 equatorial radius (from memory)
@@ -199,8 +199,9 @@ def test_embedded_sun_synchronous_shell_precesses_with_the_sun():
     """The embedded shell that says "sun-synchronous" gets the formula's
     inclination, and SGP4 (not the formula) moves its node east at the Sun's
     mean rate, 360/365.2422 = 0.9856 deg/day (from memory)."""
-    from survey.constellation import default_fleet, parse_shells
     from importlib import resources
+
+    from survey.constellation import default_fleet, parse_shells
 
     text = resources.files("survey.data").joinpath("illustrative_shells.toml").read_text("utf-8")
     assert 'inclination_deg = "sun-synchronous"' in text

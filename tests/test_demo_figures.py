@@ -13,7 +13,7 @@ import pytest
 from survey.pipeline import run_site
 from survey.site import load_site
 
-from .conftest import DEMO
+from .helpers import DEMO
 
 PINNED = {
     "alder-brook-farm": dict(usable=95479, blocked=6857, availability=1.0, interruption=0.0, outages=0,

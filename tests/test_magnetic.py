@@ -23,7 +23,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from pygeomag import GeoMag
 
-from survey.magnetic import declination, decimal_year
+from survey.magnetic import decimal_year, declination
 
 DATA = Path(__file__).parent / "data" / "wmm2025_test_values.csv"
 GEOMAG = GeoMag(coefficients_file="wmm/WMM_2025.COF")

@@ -16,7 +16,7 @@ from survey.report import site_document
 from survey.site import load_site, site_from_dict
 from survey.spots import SpotEvaluator, horizon_at, rank_spots
 
-from .conftest import DEMO, MINIMAL_SITE
+from .helpers import DEMO, MINIMAL_SITE
 
 HOURS = 2  # short windows keep the tests quick; the comparisons are exact at any length
 

@@ -35,7 +35,7 @@ from survey.plan import (
 )
 from survey.site import load_site
 
-from .conftest import DEMO, MINIMAL_SITE
+from .helpers import DEMO, MINIMAL_SITE
 
 deg = math.degrees
 atan = math.atan

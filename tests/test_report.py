@@ -19,10 +19,16 @@ from survey.assess import assess
 from survey.cli import main
 from survey.horizon import HorizonMask
 from survey.pipeline import FleetChoice, run_site
-from survey.report import load_report_inputs, recommendations, render_report, report_model, write_report
+from survey.report import (
+    load_report_inputs,
+    recommendations,
+    render_report,
+    report_model,
+    write_report,
+)
 from survey.site import load_site
 
-from .conftest import DEMO, MINIMAL_SITE
+from .helpers import DEMO, MINIMAL_SITE
 
 DEMOS = ("alder-brook-farm", "mill-lane-terrace", "tussock-ridge-croft")
 WHEN = datetime(2026, 12, 1, 12, 0, tzinfo=timezone.utc)
@@ -205,7 +211,7 @@ def test_what_if_cleared_matches_an_independent_reassessment(write_site):
     mean"): the hand-written readings with that obstruction's reading set to 0,
     interpolated with numpy, every usable sample recounted, and the link counted
     by the plain loop of the scheduling rule (test_metrics)."""
-    from .test_metrics import plain_loop_down
+    from .helpers import plain_loop_down
 
     pts = ", ".join(f'[{a}, {e}, "{lbl}"]' if lbl else f"[{a}, {e}]" for a, e, lbl in WRAP_AND_BARN)
     site = load_site(write_site(MINIMAL_SITE + f'\n[horizon]\nreference = "true"\npoints = [{pts}]\n'))

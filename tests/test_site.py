@@ -8,7 +8,7 @@ from survey.errors import InputError
 from survey.horizon import read_horizon_csv
 from survey.site import load_site
 
-from .conftest import MINIMAL_SITE
+from .helpers import BAD_CASES, HORIZON_CASES, MINIMAL_SITE
 
 
 def problems_for(write_site, text):
@@ -18,19 +18,6 @@ def problems_for(write_site, text):
     return path, exc.value.problems
 
 
-BAD_CASES = [
-    # (description, replacement in MINIMAL_SITE or extra text, expected fragments)
-    ("latitude out of range", ("latitude = 45.0", "latitude = 95.0"), ["site.latitude", "outside -90.0 to 90.0"]),
-    ("longitude out of range", ("longitude = -73.0", "longitude = -190"), ["site.longitude", "outside"]),
-    ("latitude wrong type", ("latitude = 45.0", 'latitude = "45 N"'), ["site.latitude", "expected a number"]),
-    ("unknown mount kind", ('kind = "fixed"', 'kind = "tripod"'), ["mount.kind", "'tripod' is not one of: fixed, vehicle, marine"]),
-    ("negative height", ("height_m = 5.0", "height_m = -2.0"), ["mount.height_m", "outside"]),
-    ("min elevation above 90", ("min_elevation_deg = 25.0", "min_elevation_deg = 95.0"), ["terminal.min_elevation_deg", "outside 0.0 to 90.0"]),
-    ("min elevation negative", ("min_elevation_deg = 25.0", "min_elevation_deg = -5"), ["terminal.min_elevation_deg"]),
-    ("missing latitude", ("latitude = 45.0\n", ""), ["site.latitude", "missing"]),
-    ("unknown key", ("elevation_m = 100.0", "elevation_m = 100.0\naltitude = 3"), ["site.altitude", "unknown key"]),
-    ("boolean is not a number", ("height_m = 5.0", "height_m = true"), ["mount.height_m", "expected a number"]),
-]
 
 
 @pytest.mark.parametrize("desc,change,fragments", BAD_CASES, ids=[c[0] for c in BAD_CASES])
@@ -42,16 +29,6 @@ def test_bad_site_values_name_file_and_field(write_site, desc, change, fragments
     assert problems[0].startswith(f"{path}: ")
     for frag in fragments:
         assert frag in problems[0]
-
-
-HORIZON_CASES = [
-    ('reference = "grid"\npoints = []', ["horizon.reference", "'grid' is not one of: true, magnetic"]),
-    ("points = [[10]]", ["horizon.points[0]", "expected [azimuth_deg, elevation_deg"]),
-    ("points = [[10, 95]]", ["horizon.points[0]", "elevation 95 is outside 0 to 90"]),
-    ('points = [[10, "high"]]', ["horizon.points[0]", "elevation must be a number"]),
-    ("points = [[10, 20, -4.0]]", ["horizon.points[0]", "distance must be a positive number"]),
-    ("points = 5", ["horizon.points", "expected a list"]),
-]
 
 
 @pytest.mark.parametrize("table,fragments", HORIZON_CASES)

@@ -19,9 +19,16 @@ from hypothesis import strategies as st
 from survey.errors import InputError
 from survey.horizon import HorizonPoint, HorizonProfile, read_horizon_csv
 from survey.site import Criteria, Mount, Site, load_site
-from survey.sitefile import horizon_csv, leading_comments, read_layout, save_site, site_toml, toml_string
+from survey.sitefile import (
+    horizon_csv,
+    leading_comments,
+    read_layout,
+    save_site,
+    site_toml,
+    toml_string,
+)
 
-from .conftest import DEMO
+from .helpers import DEMO
 
 DEMOS = sorted(p.name for p in DEMO.iterdir() if (p / "site.toml").is_file())
 LABEL = 'Ō-ridge "big" oak, 3\\4'  # quotes, a backslash, a comma and a letter outside ASCII

@@ -30,8 +30,7 @@ from survey.spots import (
     rank_spots,
 )
 
-from .conftest import DEMO, MINIMAL_SITE, START
-from .test_metrics import plain_loop_down
+from .helpers import DEMO, MINIMAL_SITE, START, plain_loop_down
 
 SHELLS = """\
 [[shell]]

@@ -29,18 +29,17 @@ from datetime import datetime, timedelta, timezone
 
 import numpy as np
 import pytest
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 from sgp4.api import WGS72, Satrec
 from sgp4.exporter import export_tle
 from skyfield.api import EarthSatellite, load, wgs84
 
 import survey.tracks
-from hypothesis import assume, given, settings
-from hypothesis import strategies as st
-
 from survey.constellation import Fleet, Shell, default_fleet, parse_tle, walker_fleet
 from survey.site import Terminal
-from survey.window import WindowSpec
 from survey.tracks import Observer, compute_tracks
+from survey.window import WindowSpec
 
 TS = load.timescale(builtin=True)  # builtin: no downloads (offline)
 

@@ -34,7 +34,8 @@ from .panes.spots_view import SpotsView
 from .screens.dialogs import AskChoice, AskText, ExportReport, SafetyNote, check_site_path, site_file_in
 from .screens.start import StartScreen
 from .screens.workspace import Workspace
-from .session import Assessor, Cancelled, Session, bundled_demo, copy_demo, fleet_choice_for, slug
+from .demos import bundled_demo, copy_demo
+from .session import Assessor, Cancelled, Session, fleet_choice_for, slug
 from .widgets.status import StatusLine
 
 AUTOSAVE_S = 1.5  # a killed terminal loses at most this much typing

@@ -9,8 +9,7 @@ import sys
 from pathlib import Path
 
 from survey import cli
-from survey.pipeline import FleetChoice
-from survey.site import load_site
+from survey.api import FleetChoice, load_site, resolve_site_path
 
 
 def _ui_arguments(parser) -> None:
@@ -21,6 +20,7 @@ def _ui_arguments(parser) -> None:
 def start_ui(args) -> int:
     cli.check_run_args(args)
     if args.site is not None:
+        args.site = resolve_site_path(args.site)  # demo:NAME opens a working copy of that demo
         load_site(args.site)  # a bad site file is one line and exit 2, before the screen opens
     from .app import LeositeApp
     from .session import Assessor

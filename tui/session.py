@@ -10,7 +10,6 @@ Nothing here imports Textual: the app drives it, the tests drive it directly.
 from __future__ import annotations
 
 import re
-import shutil
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
@@ -115,59 +114,6 @@ class Session:
         if not self.path.exists():
             return {}
         return parse_toml(read_text(self.path, "site file"), str(self.path))
-
-
-# ---------------------------------------------------------------- demo sites
-
-def demo_root() -> Path | None:
-    """The bundled demo sites (next to the packages in a source checkout)."""
-    here = Path(__file__).resolve().parent.parent / "demo_sites"
-    return here if here.is_dir() else None
-
-
-@dataclass(frozen=True)
-class DemoSite:
-    folder: Path
-    name: str
-    blurb: str
-
-
-def demo_sites() -> list[DemoSite]:
-    """Each demo site with its name and the first line of its opening comment."""
-    root = demo_root()
-    if root is None:
-        return []
-    out = []
-    for site_file in sorted(root.glob("*/site.toml")):
-        text = site_file.read_text("utf-8")
-        m = re.search(r'^name\s*=\s*"([^"]*)"', text, re.M)
-        comment = " ".join(line.lstrip("# ").strip() for line in text.splitlines()
-                           if line.startswith("#"))
-        blurb = comment.removeprefix("Invented demo site:").strip().split(".")[0]
-        out.append(DemoSite(site_file.parent, m.group(1) if m else site_file.parent.name, blurb))
-    return out
-
-
-def bundled_demo(path: str | Path) -> DemoSite | None:
-    """The demo site ``path`` points into, if it is one of the bundled ones."""
-    root = demo_root()
-    if root is None:
-        return None
-    try:
-        rel = Path(path).resolve().relative_to(root)
-    except ValueError:
-        return None
-    return next((d for d in demo_sites() if d.folder.name == rel.parts[0]), None) if rel.parts else None
-
-
-def copy_demo(demo: DemoSite, work_root: Path) -> Path:
-    """A working copy of a demo site under ``work_root`` (edits never touch the
-    bundled files); an existing copy is opened as it is, keeping earlier edits."""
-    dest = Path(work_root) / demo.folder.name
-    if not (dest / "site.toml").exists():
-        dest.parent.mkdir(parents=True, exist_ok=True)
-        shutil.copytree(demo.folder, dest, dirs_exist_ok=True)
-    return dest / "site.toml"
 
 
 def slug(name: str) -> str:

@@ -10,7 +10,7 @@ from textual.screen import Screen
 from textual.widgets import Footer, OptionList, Static
 from textual.widgets.option_list import Option
 
-from ..session import demo_sites
+from ..demos import demo_sites
 
 
 class StartScreen(Screen):
