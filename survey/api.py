@@ -18,6 +18,8 @@ concept each (README, "Layout").  Nothing outside ``survey`` needs a private
 from __future__ import annotations
 
 from .angles import format_dms, parse_angle
+from .cli import Command, add_run_options, check_run_args
+from .cli import main as command_line
 from .demos import DemoSite, bundled_demo, demo_sites, resolve_site_path
 from .errors import InputError, Problems
 from .evaluate import Evaluator
@@ -34,9 +36,9 @@ from .window import WindowSpec, resolve_window, window_start
 from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, pct, utc
 
 __all__ = [
-    "MOUNT_KINDS", "NBSP", "DemoSite", "Evaluator", "FleetChoice", "HorizonMask", "HorizonPoint", "HorizonProfile",
+    "MOUNT_KINDS", "NBSP", "Command", "DemoSite", "Evaluator", "FleetChoice", "HorizonMask", "HorizonPoint", "HorizonProfile",
     "InputError", "Mount", "Problems", "Schedule", "Site", "SiteRun", "Terminal", "TrackCache", "WindowSpec",
-    "azimuth", "azimuth_span", "bundled_demo", "demo_sites", "duration", "elevation", "format_dms", "format_for",
+    "add_run_options", "azimuth", "azimuth_span", "check_run_args", "command_line", "bundled_demo", "demo_sites", "duration", "elevation", "format_dms", "format_for",
     "horizon_at", "length", "load_site", "notes_for", "parse_angle", "parse_point", "parse_time", "parse_toml",
     "pct", "pole_text", "rank_spots", "read_horizon_csv", "read_text", "recommendations", "resolve_site_path",
     "resolve_window", "run_site", "save_site", "short_note", "site_declination", "site_from_dict", "site_mask",

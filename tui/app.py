@@ -20,21 +20,31 @@ from textual.binding import Binding
 from textual.widgets import ProgressBar
 from textual.worker import get_current_worker
 
-from survey.errors import InputError
-from survey.horizon import read_horizon_csv
-from survey.magnetic import declination
-from survey.report import recommendations, write_report
+from survey.api import (
+    InputError,
+    read_horizon_csv,
+    recommendations,
+    site_declination,
+    write_report,
+)
 
+from .demos import bundled_demo, copy_demo
 from .fields import apply_fields, new_site_defaults
 from .panes.findings import FindingsPane
 from .panes.horizon_editor import HorizonEditor
 from .panes.site_form import SiteForm
 from .panes.sky_view import SkyView
 from .panes.spots_view import SpotsView
-from .screens.dialogs import AskChoice, AskText, ExportReport, SafetyNote, check_site_path, site_file_in
+from .screens.dialogs import (
+    AskChoice,
+    AskText,
+    ExportReport,
+    SafetyNote,
+    check_site_path,
+    site_file_in,
+)
 from .screens.start import StartScreen
 from .screens.workspace import Workspace
-from .demos import bundled_demo, copy_demo
 from .session import Assessor, Cancelled, Session, fleet_choice_for, slug
 from .widgets.status import StatusLine
 
@@ -143,9 +153,11 @@ class LeositeApp(App):
             self.request_assessment()
 
     def _declination(self, site) -> tuple[float | None, str]:
-        when = site.window.get("start") or self.assessor.start or datetime.now(timezone.utc)
+        """The declination the assessment will use: at the window's start by the
+        engine's one rule (the session's --start, else the site's [window], else
+        today: survey/window.py)."""
         try:
-            d = declination(site.latitude_deg, site.longitude_deg, site.elevation_m, when)
+            d = site_declination(site, self.assessor.start)
         except Exception as exc:  # a model failure must not take the editor down
             return None, f"declination unavailable: {exc}"
         return d.declination_deg, "; ".join(d.warnings)
@@ -360,7 +372,7 @@ class LeositeApp(App):
 
     @work(thread=True, exclusive=True, group="spots", exit_on_error=False)
     def _rank(self, run, years: float) -> None:
-        from survey.spots import rank_spots
+        from survey.api import rank_spots
 
         self.call_from_thread(self._status, state="ranking spots…")
         try:

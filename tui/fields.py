@@ -12,9 +12,16 @@ from dataclasses import dataclass, replace
 from datetime import datetime, timezone
 from pathlib import Path
 
-from survey.angles import format_dms, parse_angle
-from survey.errors import InputError
-from survey.site import MOUNT_KINDS, Mount, Site, Terminal, site_from_dict
+from survey.api import (
+    MOUNT_KINDS,
+    InputError,
+    Mount,
+    Site,
+    Terminal,
+    format_dms,
+    parse_angle,
+    site_from_dict,
+)
 
 
 @dataclass(frozen=True)
@@ -159,8 +166,7 @@ def apply_fields(values: dict, base: Site | None, path: Path) -> Site:
         if v:
             survey[k] = v
     if "date" in survey:  # stored as the site reader normalises it
-        from survey.errors import Problems
-        from survey.site import parse_time
+        from survey.api import Problems, parse_time
 
         when = parse_time(survey["date"], "survey.date", Problems(str(path)))
         if when is not None:

@@ -1,24 +1,23 @@
 """The ``leosite`` command: every engine command, plus ``leosite ui``.
 
 The command line lives in ``survey.cli``; this module adds the ``ui`` command
-to it (``cli.Command``), so dependencies keep running one way (tui -> survey)."""
+to it (``survey.api.Command``), so dependencies keep running one way (tui -> survey)."""
 
 from __future__ import annotations
 
 import sys
 from pathlib import Path
 
-from survey import cli
-from survey.api import FleetChoice, load_site, resolve_site_path
+from survey.api import Command, FleetChoice, add_run_options, check_run_args, command_line, load_site, resolve_site_path
 
 
 def _ui_arguments(parser) -> None:
     parser.add_argument("site", metavar="SITE", nargs="?", type=Path, help="site file (site.toml) to open")
-    cli.add_run_options(parser)
+    add_run_options(parser)
 
 
 def start_ui(args) -> int:
-    cli.check_run_args(args)
+    check_run_args(args)
     if args.site is not None:
         args.site = resolve_site_path(args.site)  # demo:NAME opens a working copy of that demo
         load_site(args.site)  # a bad site file is one line and exit 2, before the screen opens
@@ -30,13 +29,13 @@ def start_ui(args) -> int:
     return 0
 
 
-UI = cli.Command("ui", "the text UI: survey, edit and report a site on screen",
+UI = Command("ui", "the text UI: survey, edit and report a site on screen",
                  "Open the text UI on a site file, or with no SITE on a start screen "
                  "(new site, demo sites, open a file).", _ui_arguments, start_ui)
 
 
 def main(argv=None) -> int:
-    return cli.main(argv, extra=(UI,))
+    return command_line(argv, extra=(UI,))
 
 
 if __name__ == "__main__":

@@ -13,11 +13,18 @@ import re
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
-from survey.errors import InputError
-from survey.fileio import parse_toml, read_text
-from survey.pipeline import FleetChoice, SiteRun, TrackCache, run_site
-from survey.site import Site, load_site
-from survey.sitefile import save_site
+from survey.api import (
+    FleetChoice,
+    InputError,
+    Site,
+    SiteRun,
+    TrackCache,
+    load_site,
+    parse_toml,
+    read_text,
+    run_site,
+    save_site,
+)
 
 
 class Cancelled(Exception):

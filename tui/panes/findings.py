@@ -11,10 +11,8 @@ from textual.app import ComposeResult
 from textual.containers import Vertical, VerticalScroll
 from textual.widgets import Static
 
-from survey.pipeline import SiteRun
-from survey.render import fmt_duration
-from survey.report import pct
-from survey.site import Schedule
+from survey.api import Schedule, SiteRun, pct
+from survey.api import duration as fmt_duration
 
 from ..verdicts import verdict_text
 from ..widgets.timeline import OutageStrip

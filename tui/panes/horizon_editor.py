@@ -18,8 +18,7 @@ from textual.containers import Horizontal, Vertical
 from textual.message import Message
 from textual.widgets import DataTable, Input, Label, Static
 
-from survey.errors import Problems
-from survey.horizon import HorizonMask, HorizonPoint, HorizonProfile, parse_point
+from survey.api import HorizonMask, HorizonPoint, HorizonProfile, Problems, parse_point
 
 from ..widgets.phrases import Phrases
 from ..widgets.profile import HorizonProfile as ProfilePreview

@@ -10,8 +10,7 @@ from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.message import Message
 from textual.widgets import DataTable, Static
 
-from survey.report import pct, pole_text
-from survey.safety import spot_note
+from survey.api import pct, pole_text, spot_note
 
 from ..widgets.phrases import Phrases
 from ..widgets.planchart import PlanChart

@@ -12,9 +12,7 @@ from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Select, Static
 
-from survey.errors import InputError
-from survey.report import format_for
-from survey.safety import notes_for
+from survey.api import InputError, format_for, notes_for
 
 
 class DialogButton(Button):

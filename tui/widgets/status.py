@@ -7,7 +7,7 @@ from rich.text import Text
 from textual.reactive import reactive
 from textual.widget import Widget
 
-from survey.report import pct
+from survey.api import pct
 
 from ..verdicts import verdict_text
 

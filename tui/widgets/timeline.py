@@ -23,7 +23,7 @@ from datetime import datetime, timedelta, timezone
 import numpy as np
 from rich.text import Text
 
-from survey.render import fmt_duration
+from survey.api import duration as fmt_duration
 
 from . import DOWN_BAR, GREY, SKY_BLUE, Canvas, DrawingWidget, fit, too_small
 
