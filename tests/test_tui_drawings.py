@@ -238,7 +238,7 @@ def test_outage_strip_marks_the_down_hours():
     # one day, the longest 60 min.
     runs = [len(list(g)) for k, g in itertools.groupby(down) if k]
     assert len(runs) == 3 and sum(runs) == 135 and max(runs) == 60
-    assert lines[2].startswith("3 drop-outs, 135 min/day, longest 60 min")
+    assert lines[2].startswith("3 drop-outs, 135 min/day, longest 60.0\u00a0min")  # words.duration
 
 
 def test_outage_strip_days_left_off_and_offset_start():

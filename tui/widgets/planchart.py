@@ -36,7 +36,7 @@ from rich.text import Text
 
 from survey import render as _render
 
-from . import (
+from .drawing import (
     BLUISH_GREEN,
     GREY,
     ORANGE,

@@ -26,7 +26,7 @@ import math
 import numpy as np
 from rich.text import Text
 
-from . import GREY, Canvas, DrawingWidget, too_small
+from .drawing import GREY, Canvas, DrawingWidget, too_small
 
 __all__ = ["horizon_profile", "HorizonProfile", "MIN_WIDTH", "MIN_HEIGHT", "GUTTER"]
 

@@ -34,7 +34,7 @@ import math
 import numpy as np
 from rich.text import Text
 
-from . import (
+from .drawing import (
     BLUE,
     BRAILLE_BITS,
     GREY,

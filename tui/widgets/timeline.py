@@ -25,7 +25,7 @@ from rich.text import Text
 
 from survey.api import duration as fmt_duration
 
-from . import DOWN_BAR, GREY, SKY_BLUE, Canvas, DrawingWidget, fit, too_small
+from .drawing import DOWN_BAR, GREY, SKY_BLUE, Canvas, DrawingWidget, fit, too_small
 
 __all__ = ["outage_strip", "OutageStrip", "strip_counts", "MIN_WIDTH", "MIN_HEIGHT"]
 
