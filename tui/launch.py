@@ -8,7 +8,15 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from survey.api import Command, FleetChoice, add_run_options, check_run_args, command_line, load_site, resolve_site_path
+from survey.api import (
+    Command,
+    FleetChoice,
+    add_run_options,
+    check_run_args,
+    command_line,
+    load_site,
+    resolve_site_path,
+)
 
 
 def _ui_arguments(parser) -> None:
