@@ -23,6 +23,7 @@ from .cli import main as command_line
 from .demos import DemoSite, bundled_demo, demo_sites, resolve_site_path
 from .errors import InputError, Problems
 from .evaluate import Evaluator
+from .figures import centroid, compact_pct, obstacle_shapes, palette, plan_cells, plan_extent_points, spots_plan_inputs
 from .fileio import parse_toml, read_text
 from .horizon import HorizonMask, HorizonPoint, HorizonProfile, parse_point, read_horizon_csv
 from .mask import site_declination, site_mask
@@ -38,7 +39,8 @@ from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, pct
 __all__ = [
     "MOUNT_KINDS", "NBSP", "Command", "DemoSite", "Evaluator", "FleetChoice", "HorizonMask", "HorizonPoint", "HorizonProfile",
     "InputError", "Mount", "Problems", "Schedule", "Site", "SiteRun", "Terminal", "TrackCache", "WindowSpec",
-    "add_run_options", "azimuth", "azimuth_span", "check_run_args", "command_line", "bundled_demo", "demo_sites", "duration", "elevation", "format_dms", "format_for",
+    "add_run_options", "azimuth", "centroid", "compact_pct", "obstacle_shapes", "palette", "plan_cells",
+    "plan_extent_points", "spots_plan_inputs", "azimuth_span", "check_run_args", "command_line", "bundled_demo", "demo_sites", "duration", "elevation", "format_dms", "format_for",
     "horizon_at", "length", "load_site", "notes_for", "parse_angle", "parse_point", "parse_time", "parse_toml",
     "pct", "pole_text", "rank_spots", "read_horizon_csv", "read_text", "recommendations", "resolve_site_path",
     "resolve_window", "run_site", "save_site", "short_note", "site_declination", "site_from_dict", "site_mask",

@@ -245,7 +245,7 @@ def cmd_assess(args) -> int:
     check_run_args(args)
     run = _run(args, load_site(args.site), FleetChoice(args.shells, args.tle), quiet=args.json)
     if args.plot is not None:
-        from .render import sky_plot_png
+        from .figures import sky_plot_png
 
         atomic_write_bytes(args.plot, sky_plot_png(run))
     if args.json:
@@ -296,7 +296,7 @@ def cmd_horizon(args) -> int:
 
     derived = horizon_at(site, east, north, height, years=args.years)
     if args.plot is not None:
-        from .render import derived_horizon_png
+        from .figures import derived_horizon_png
 
         atomic_write_bytes(args.plot, derived_horizon_png(site, derived))
     if args.json:
@@ -367,7 +367,7 @@ def cmd_spots(args) -> int:
     run = _run(args, site, FleetChoice(args.shells, args.tle), quiet=args.json)
     ranking = rank_spots(run, years=args.years, spacing_m=args.spacing, target_blocked=args.target_blocked)
     if args.plot is not None:
-        from .render import encode_png, spots_plan_figure
+        from .figures import encode_png, spots_plan_figure
 
         atomic_write_bytes(args.plot, encode_png(spots_plan_figure(run, ranking)))
     if args.json:

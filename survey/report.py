@@ -17,7 +17,6 @@ from __future__ import annotations
 import base64
 import hashlib
 import html
-import io
 import json
 import re
 from dataclasses import dataclass
@@ -392,15 +391,15 @@ def method_text(run: SiteRun) -> list[str]:
 # ---------------------------------------------------------------------------
 def report_figures(run: SiteRun, ranking=None) -> dict:
     """The report's figures as PIL images, at print resolution."""
-    from . import render  # Pillow drawing only when a figure is wanted
+    from . import figures as fig  # Pillow drawing only when a figure is wanted
 
     figures = {
-        "sky": render.sky_plot_for_run(run, size_px=1400),
-        "panorama": render.horizon_panorama_for_run(run),
-        "timeline": render.outage_timeline_for_run(run),
+        "sky": fig.sky_plot_for_run(run, size_px=1400),
+        "panorama": fig.horizon_panorama_for_run(run),
+        "timeline": fig.outage_timeline_for_run(run),
     }
     if ranking is not None:
-        figures["plan"] = render.spots_plan_figure(run, ranking)
+        figures["plan"] = fig.spots_plan_figure(run, ranking)
     return figures
 
 
@@ -414,12 +413,6 @@ FIGURE_CAPTIONS = {
     "plan": "The site from above, north up: obstacles to scale with their heights, candidate spots coloured "
             "by blocked fraction, the best spot starred.",
 }
-
-
-def _png(image) -> bytes:
-    buf = io.BytesIO()
-    image.save(buf, format="PNG", compress_level=6)
-    return buf.getvalue()
 
 
 # ---------------------------------------------------------------------------
@@ -530,7 +523,9 @@ def _grid_table(head, rows, numeric=()) -> str:
 
 
 def _figure_html(image, alt: str, caption: str) -> str:
-    data = base64.b64encode(_png(image)).decode("ascii")
+    from .figures import encode_png
+
+    data = base64.b64encode(encode_png(image)).decode("ascii")
     return (f'<figure><img src="data:image/png;base64,{data}" alt="{_e(alt)}">'
             f"<figcaption>{_e(caption)}</figcaption></figure>")
 

@@ -12,7 +12,7 @@ from rich.cells import cell_len
 from rich.text import Span, Text
 from textual.widget import Widget
 
-from survey import render as _render
+from survey.api import palette
 
 # ---------------------------------------------------------------------------
 # Palette: the Okabe & Ito hues of survey/render.py, as rich colours.
@@ -24,13 +24,13 @@ def hex_colour(rgb) -> str:
     return "#{:02x}{:02x}{:02x}".format(*(int(round(v)) for v in rgb))
 
 
-BLUE = hex_colour(_render.BLUE)
-SKY_BLUE = hex_colour(_render.SKY_BLUE)
-VERMILLION = hex_colour(_render.VERMILLION)
-ORANGE = hex_colour(_render.ORANGE)
-REDDISH_PURPLE = hex_colour(_render.REDDISH_PURPLE)
-BLUISH_GREEN = hex_colour(_render.BLUISH_GREEN)
-DOWN_BAR = hex_colour(_render.DOWN_BAR)
+BLUE = hex_colour(palette.BLUE)
+SKY_BLUE = hex_colour(palette.SKY_BLUE)
+VERMILLION = hex_colour(palette.VERMILLION)
+ORANGE = hex_colour(palette.ORANGE)
+REDDISH_PURPLE = hex_colour(palette.REDDISH_PURPLE)
+BLUISH_GREEN = hex_colour(palette.BLUISH_GREEN)
+DOWN_BAR = hex_colour(palette.DOWN_BAR)
 # The figures' greys are drawn on white paper; a terminal may be dark or light,
 # so the drawings use mid greys that read on either background.
 GREY = "#8c8c8c"       # obstruction hatch, rim, silhouette edge, walls

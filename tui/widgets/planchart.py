@@ -34,7 +34,15 @@ import math
 import numpy as np
 from rich.text import Text
 
-from survey import render as _render
+from survey.api import (
+    centroid,
+    compact_pct,
+    obstacle_shapes,
+    palette,
+    plan_cells,
+    plan_extent_points,
+    spots_plan_inputs,
+)
 
 from .drawing import (
     BLUISH_GREEN,
@@ -60,7 +68,7 @@ SITE = "\u2295"  # ⊕
 MIN_WIDTH = 20
 MIN_HEIGHT = 8
 
-_RAMP_COLOURS = (SKY_BLUE, hex_colour(_render.YELLOW), ORANGE, VERMILLION)
+_RAMP_COLOURS = (SKY_BLUE, hex_colour(palette.YELLOW), ORANGE, VERMILLION)
 _STYLE = {
     "building": GREY, "ridge": GREY, "tree": BLUISH_GREEN, "wall": GREY,
     "ramp0": _RAMP_COLOURS[0], "ramp1": _RAMP_COLOURS[1], "ramp2": _RAMP_COLOURS[2],
@@ -190,8 +198,8 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
     width, height = int(width), int(height)
     if width < MIN_WIDTH or height < MIN_HEIGHT:
         return too_small(width, height, MIN_WIDTH, MIN_HEIGHT)
-    obs = _render._obstacles(obstacles)  # the figure's own validation of the dicts
-    cl = _render._cells(cells)
+    obs = obstacle_shapes(obstacles)  # the figure's own validation of the dicts
+    cl = plan_cells(cells)
     markers = list(markers or ())
     st = _STYLE.get
 
@@ -199,7 +207,7 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
     vmax = _ramp_top(cl, markers, best)
     legend = _legend(obs, cl, markers, keys, best, selected, vmax, width, height)
 
-    pts = [_render._plan_points(obs, cl, markers, best)]  # the figure's own extent, site point included
+    pts = [plan_extent_points(obs, cl, markers, best)]  # the figure's own extent, site point included
     if selected is not None:
         pts.append(np.array([[float(selected[0]), float(selected[1])]]))
     geo = plan_geometry(np.concatenate(pts), width, height, legend_rows=len(legend))
@@ -224,7 +232,7 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
         if o.kind in ("building", "prism"):
             m = _poly_inside(o.xy, E, N)
             if not m.any():  # smaller than a cell: still show it
-                r, c = geo.cell(*_render._centroid(o.xy))
+                r, c = geo.cell(*centroid(o.xy))
                 put_cells(np.atleast_1d(r), np.atleast_1d(c), BUILDING, st("building"))
             cv.fill(full(m), BUILDING, st("building"))
         elif o.kind == "tree":
@@ -298,7 +306,7 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
         h_txt += " m"
         texts = ([f"{o.name} {h_txt}"] if o.name else []) + [h_txt]
         fill_glyph = TREE if o.kind == "tree" else BUILDING
-        centre = o.xy[0] if o.kind == "tree" else _render._centroid(o.xy)
+        centre = o.xy[0] if o.kind == "tree" else centroid(o.xy)
         r_c, c_c = (int(v) for v in geo.cell(*centre))
         done = False
         for text in texts:
@@ -387,7 +395,7 @@ def _legend(obs, cl, markers, keys, best, selected, vmax, width: int, height: in
     budget = _legend_budget(height)
     if budget <= 0:
         return []
-    pct = _render.compact_pct
+    pct = compact_pct
     items = []  # each: its forms, longest first
     if cl.size:
         q = vmax / 4.0
@@ -449,7 +457,7 @@ def _legend(obs, cl, markers, keys, best, selected, vmax, width: int, height: in
 
 def plan_inputs(run, ranking) -> tuple[list, list, list, dict]:
     """(obstacles, cells, markers, best) of a spot ranking: the report figure's own."""
-    return _render.spots_plan_inputs(run, ranking)
+    return spots_plan_inputs(run, ranking)
 
 
 def plan_chart_for(run, ranking, width: int, height: int, colour: bool = True,

@@ -1,4 +1,4 @@
-"""Tests for survey.render: geometry of the sky plot checked on the pixels.
+"""Tests for survey.figures: geometry of the sky plot checked on the pixels.
 
 Projection used throughout (worked by hand, independent of the module):
 north up, east right, azimuth clockwise, radius linear in zenith distance:
@@ -19,10 +19,21 @@ import numpy as np
 import pytest
 from PIL import Image
 
-from survey.render import (
-    encode_png, horizon_panorama, horizon_panorama_for_run, outage_timeline,
-    outage_timeline_for_run, outage_timeline_frame, panorama_frame, panorama_xy, plan_figure,
-    plan_layout, plan_xy, plot_frame, project, sky_plot,
+from survey.figures import (
+    encode_png,
+    horizon_panorama,
+    horizon_panorama_for_run,
+    outage_timeline,
+    outage_timeline_for_run,
+    outage_timeline_frame,
+    panorama_frame,
+    panorama_xy,
+    plan_figure,
+    plan_layout,
+    plan_xy,
+    plot_frame,
+    project,
+    sky_plot,
 )
 
 SIZE = 1000
@@ -106,7 +117,7 @@ def rim_darkness(L, frame, az_list, r=None, half=2.0):
 
 # ---------------------------------------------------------------------------
 def test_image_size_and_mode():
-    # Layout is in 1/1000ths of the image size (render.py's module docstring),
+    # Layout is in 1/1000ths of the image size (survey/figures/sky.py's docstring),
     # so the 640 px frame is the 1000 px frame scaled by 0.64.
     f1000 = plot_frame(1000)
     n = 200
@@ -649,7 +660,7 @@ def alder_run():
     from survey.pipeline import run_site
     from survey.site import load_site
 
-    from .conftest import DEMO
+    from .helpers import DEMO
     return run_site(load_site(DEMO / "alder-brook-farm" / "site.toml"), hours=1, step_s=30)
 
 
@@ -674,7 +685,7 @@ def test_panorama_for_run_marks_points_in_true_azimuth(alder_run):
     # bearings, is marked with a white-centred black ring (radius 5u, u = 1.5).
     import tomllib
 
-    from .conftest import DEMO
+    from .helpers import DEMO
     with open(DEMO / "alder-brook-farm" / "site.toml", "rb") as fh:
         measured = tomllib.load(fh)["horizon"]["points"]
     t_az = np.array([(p[0] + dec) % 360.0 for p in measured])
@@ -925,7 +936,7 @@ def test_timeline_default_height_grows_and_is_capped():
                           down=np.zeros(1440 * 6, bool)).size[1]
     assert 700 < h7 < h60 <= 2400
     # 700 px for one day and 96 px (40/1000 of the 2400 px width) for each
-    # further day, capped at 2400 px (render.py's default-size rule).
+    # further day, capped at 2400 px (survey/figures/timeline.py's default-size rule).
     assert h7 == 700 + 6 * 96
     assert h60 == 2400
 
