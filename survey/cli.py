@@ -7,12 +7,12 @@ Exit codes: 0 success, 2 bad input (one line per problem on stderr, no traceback
 from __future__ import annotations
 
 import argparse
-from collections.abc import Callable
-from dataclasses import dataclass
 import json
 import sys
 import textwrap
 import time
+from collections.abc import Callable
+from dataclasses import dataclass
 from pathlib import Path
 
 from . import __version__
@@ -20,9 +20,9 @@ from .errors import InputError, Problems
 from .fileio import atomic_write_bytes
 from .pipeline import FleetChoice, SiteRun, mount_text, result_dict, run_site
 from .report import format_for, load_report_inputs, write_report
-from .words import NBSP, azimuth_span, duration, elevation, length, pct
 from .safety import short_note, spot_note
 from .site import load_site, parse_time
+from .words import NBSP, azimuth_span, duration, elevation, length, pct
 
 
 class _Parser(argparse.ArgumentParser):

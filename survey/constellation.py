@@ -187,11 +187,6 @@ def parse_shells(text: str, where: str) -> list[Shell]:
     return shells
 
 
-def load_shells(path: str | Path, epoch: datetime) -> Fleet:
-    path = Path(path)
-    return shells_fleet(read_text(path, "shell file"), str(path), epoch)
-
-
 def shells_fleet(text: str, where: str, epoch: datetime) -> Fleet:
     """Walker shells from shell-file text (``where`` names the file in errors)."""
     return walker_fleet(parse_shells(text, where), epoch, f"Walker shells from {Path(where).name}")

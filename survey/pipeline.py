@@ -9,17 +9,16 @@ from dataclasses import dataclass, field, replace
 from datetime import datetime
 from pathlib import Path
 
-
 from .assess import Assessment
-from .evaluate import Evaluator
 from .constellation import Fleet, default_fleet, parse_elements, shells_fleet
+from .evaluate import Evaluator
 from .fileio import read_text
 from .horizon import HorizonMask
 from .magnetic import Declination
 from .mask import site_mask
 from .site import Site
-from .window import WindowSpec, resolve_window
 from .tracks import Observer, SkyTracks, compute_tracks
+from .window import WindowSpec, resolve_window
 from .words import length
 
 

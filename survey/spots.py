@@ -27,8 +27,8 @@ from dataclasses import dataclass, field
 import numpy as np
 import shapely
 
-from .evaluate import Evaluator
 from .errors import InputError, Problems
+from .evaluate import Evaluator
 from .horizon import HorizonMask
 from .plan import (
     AZIMUTHS_DEG,

@@ -366,7 +366,7 @@ def test_every_report_carries_the_safety_note_for_its_mount(runs, write_site):
     (("woodshed",), False), (("barn", "barn ridge"), False), (("fire station",), False), ((), False),
 ])
 def test_advice_says_trim_only_for_plants(labels, plant):
-    from survey.report import _looks_like_vegetation
+    from survey.report.advice import _looks_like_vegetation
 
     assert _looks_like_vegetation(labels) is plant
 

@@ -20,8 +20,6 @@ from survey.api import (
     SiteRun,
     TrackCache,
     load_site,
-    parse_toml,
-    read_text,
     run_site,
     save_site,
 )
@@ -116,11 +114,6 @@ class Session:
         self.saved = self.site
         return written
 
-    def base_document(self) -> dict:
-        """The site file as last written (empty for a new site)."""
-        if not self.path.exists():
-            return {}
-        return parse_toml(read_text(self.path, "site file"), str(self.path))
 
 
 def slug(name: str) -> str:

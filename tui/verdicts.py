@@ -5,10 +5,11 @@ from __future__ import annotations
 
 from rich.text import Text
 
-# bluish green, orange, vermillion: the same hues the report uses for the verdict; on a
-# light background the same hues darkened (about 5:1 contrast on white, WCAG 2.1 AA)
-STYLE = {"qualified": "bold #009E73", "marginal": "bold #E69F00", "not-qualified": "bold #D55E00"}
-STYLE_ON_LIGHT = {"qualified": "bold #00664A", "marginal": "bold #8A5A00", "not-qualified": "bold #A33C00"}
+from survey.api import palette
+
+# The engine's verdict hues (figures.palette.VERDICT), the same the report uses.
+STYLE = {k: f"bold {palette.hex_code(v)}" for k, v in palette.VERDICT.items()}
+STYLE_ON_LIGHT = {k: f"bold {palette.hex_code(v)}" for k, v in palette.VERDICT_ON_LIGHT.items()}
 GLYPH = {"qualified": "✓", "marginal": "≈", "not-qualified": "✗"}
 WORD = {"qualified": "QUALIFIED", "marginal": "MARGINAL", "not-qualified": "NOT QUALIFIED"}
 

@@ -23,7 +23,7 @@ text sized in 1/1000ths of the image width so it prints legibly at about
 """
 
 from ..words import duration
-from .canvas import encode_png
+from .canvas import encode_png, indexed_for_print
 from .from_run import (
     derived_horizon_png,
     horizon_panorama_for_run,
@@ -50,6 +50,7 @@ __all__ = [
     "outage_timeline", "outage_timeline_frame", "TimelineFrame",
     "plan_figure", "plan_layout", "plan_xy", "PlanFrame", "PlanLayout",
     "encode_png",
+    "indexed_for_print",
     # from an assessed site
     "sky_plot_for_run", "sky_plot_png", "horizon_panorama_for_run", "outage_timeline_for_run",
     "derived_horizon_png", "spots_plan_figure", "spots_plan_inputs", "plan_obstacles",

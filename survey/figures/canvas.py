@@ -92,6 +92,19 @@ class Sheet:
         return self.img.resize(self.size, Image.Resampling.LANCZOS)
 
 
+def indexed_for_print(image: Image.Image) -> Image.Image:
+    """``image`` as an indexed-colour image for embedding in a report (PDF, HTML): exact when it holds at
+    most 256 colours, else an adaptive 256-colour palette (octree, no dithering:
+    flat areas stay flat and compress, lines keep their colour)."""
+    rgb = image.convert("RGB")
+    colours = rgb.getcolors(256)
+    if colours is not None:  # exact: a palette of the image's own colours
+        palette = Image.new("P", (1, 1))
+        palette.putpalette([channel for _, rgb_value in colours for channel in rgb_value])
+        return rgb.quantize(palette=palette, dither=Image.Dither.NONE)
+    return rgb.quantize(256, method=Image.Quantize.FASTOCTREE, dither=Image.Dither.NONE)
+
+
 def encode_png(image: Image.Image) -> bytes:
     """PNG-encoded bytes of ``image`` (no file is written)."""
     buf = io.BytesIO()

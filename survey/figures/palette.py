@@ -107,3 +107,16 @@ BLOCKED_FRACTION_LUT = ramp([
     (0.75, VERMILLION),
     (1.00, mix(VERMILLION, BLACK, 0.45)),
 ])
+
+
+# The verdict's hue, the same in the report, the figures and the text UI; on a
+# light background the same hues darkened (about 5:1 contrast on white, WCAG 2.1 AA).
+VERDICT = {"qualified": BLUISH_GREEN, "marginal": ORANGE, "not-qualified": VERMILLION}
+VERDICT_ON_LIGHT = {"qualified": (0x00, 0x66, 0x4A), "marginal": (0x8A, 0x5A, 0x00),
+                    "not-qualified": (0xA3, 0x3C, 0x00)}
+
+
+def hex_code(colour) -> str:
+    """``#RRGGBB`` of an (r, g, b) colour, for stylesheets."""
+    r, g, b = (int(c) for c in colour[:3])
+    return f"#{r:02X}{g:02X}{b:02X}"

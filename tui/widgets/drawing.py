@@ -211,10 +211,6 @@ class DrawingWidget(Widget):
         """Forget the data: the placeholder shows again."""
         self._set_data(None)
 
-    @property
-    def has_data(self) -> bool:
-        return self._data is not None
-
     def _draw(self, width: int, height: int, colour: bool) -> Text:  # pragma: no cover
         raise NotImplementedError
 

@@ -17,6 +17,8 @@ from fpdf import FPDF
 from fpdf.enums import XPos, YPos
 from fpdf.fonts import FontFace
 
+from ..figures import indexed_for_print
+
 MARGIN_MM = 15.0
 BODY_PT = 9.5
 SMALL_PT = 8.0
@@ -113,27 +115,12 @@ class _ReportPDF(FPDF):
         if self.get_y() + h + cap_h > self.page_break_trigger:
             self.add_page()
         x = self.l_margin + (self.epw - width_mm) / 2
-        self.image(for_print(image), x=x, y=self.get_y(), w=width_mm, h=h)
+        self.image(indexed_for_print(image), x=x, y=self.get_y(), w=width_mm, h=h)
         self.set_y(self.get_y() + h + 1.5)
         self.set_text_color(70)
         self.para(caption, SMALL_PT)
         self.set_text_color(0)
         self.ln(2)
-
-
-def for_print(image):
-    """``image`` as an indexed-colour image for embedding: exact when it holds at
-    most 256 colours, else an adaptive 256-colour palette (octree, no dithering:
-    flat areas stay flat and compress, lines keep their colour)."""
-    from PIL import Image
-
-    rgb = image.convert("RGB")
-    colours = rgb.getcolors(256)
-    if colours is not None:  # exact: a palette of the image's own colours
-        palette = Image.new("P", (1, 1))
-        palette.putpalette([channel for _, rgb_value in colours for channel in rgb_value])
-        return rgb.quantize(palette=palette, dither=Image.Dither.NONE)
-    return rgb.quantize(256, method=Image.Quantize.FASTOCTREE, dither=Image.Dither.NONE)
 
 
 def _heading_style():
