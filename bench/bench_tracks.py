@@ -30,8 +30,8 @@ from survey.assess import assess  # noqa: E402
 from survey.horizon import HorizonMask, HorizonPoint  # noqa: E402
 from survey.pipeline import FleetChoice, site_observer  # noqa: E402
 from survey.site import load_site  # noqa: E402
-from survey.window import resolve_window  # noqa: E402
 from survey.tracks import compute_tracks  # noqa: E402
+from survey.window import resolve_window  # noqa: E402
 
 
 def skyfield_loop(fleet, site, window):

@@ -60,7 +60,7 @@ async def measure(site_file: Path) -> dict:
             before = app.latest
             t0 = time.monotonic()
             await pilot.press("enter")
-            await until(pilot, lambda: app.latest is not before)
+            await until(pilot, lambda before=before: app.latest is not before)
             await pilot.pause()  # the tabs have drawn the new findings
             edits.append(time.monotonic() - t0)
         out["pilot"] = edits
@@ -70,7 +70,7 @@ async def measure(site_file: Path) -> dict:
         before = app.latest
         t0 = time.monotonic()
         field.value = "7.5"
-        await until(pilot, lambda: app.latest is not before)
+        await until(pilot, lambda before=before: app.latest is not before)
         out["height"] = time.monotonic() - t0  # includes the form's settle delay
         engine = []
         for _ in range(5):

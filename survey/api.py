@@ -37,12 +37,13 @@ from .window import WindowSpec, resolve_window, window_start
 from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, pct, utc
 
 __all__ = [
-    "MOUNT_KINDS", "NBSP", "Command", "DemoSite", "Evaluator", "FleetChoice", "HorizonMask", "HorizonPoint", "HorizonProfile",
-    "InputError", "Mount", "Problems", "Schedule", "Site", "SiteRun", "Terminal", "TrackCache", "WindowSpec",
-    "add_run_options", "azimuth", "centroid", "compact_pct", "obstacle_shapes", "palette", "plan_cells",
-    "plan_extent_points", "spots_plan_inputs", "azimuth_span", "check_run_args", "command_line", "bundled_demo", "demo_sites", "duration", "elevation", "format_dms", "format_for",
-    "horizon_at", "length", "load_site", "notes_for", "parse_angle", "parse_point", "parse_time", "parse_toml",
-    "pct", "pole_text", "rank_spots", "read_horizon_csv", "read_text", "recommendations", "resolve_site_path",
-    "resolve_window", "run_site", "save_site", "short_note", "site_declination", "site_from_dict", "site_mask",
-    "spot_note", "utc", "window_start", "write_report",
+    "add_run_options", "azimuth", "azimuth_span", "bundled_demo", "centroid", "check_run_args", "Command",
+    "command_line", "compact_pct", "demo_sites", "DemoSite", "duration", "elevation", "Evaluator",
+    "FleetChoice", "format_dms", "format_for", "horizon_at", "HorizonMask", "HorizonPoint", "HorizonProfile",
+    "InputError", "length", "load_site", "Mount", "MOUNT_KINDS", "NBSP", "notes_for", "obstacle_shapes",
+    "palette", "parse_angle", "parse_point", "parse_time", "parse_toml", "pct", "plan_cells",
+    "plan_extent_points", "pole_text", "Problems", "rank_spots", "read_horizon_csv", "read_text",
+    "recommendations", "resolve_site_path", "resolve_window", "run_site", "save_site", "Schedule",
+    "short_note", "Site", "site_declination", "site_from_dict", "site_mask", "SiteRun", "spot_note",
+    "spots_plan_inputs", "Terminal", "TrackCache", "utc", "window_start", "WindowSpec", "write_report",
 ]

@@ -36,7 +36,7 @@ class Evaluator:
         self.schedule = schedule
         self.assignment = assignment if assignment is not None else schedule_assignment(tracks, schedule.reassign_s)
 
-    def for_site(self, criteria: Criteria, schedule: Schedule) -> "Evaluator":
+    def for_site(self, criteria: Criteria, schedule: Schedule) -> Evaluator:
         """This evaluator for another site's criteria and period (the assignment is
         kept when the period is the same)."""
         if (criteria, schedule) == (self.criteria, self.schedule):

@@ -38,7 +38,7 @@ class HorizonProfile:
     points: tuple[HorizonPoint, ...] = ()
     reference: str = "true"  # "true" | "magnetic"
 
-    def to_true(self, declination_deg: float) -> "HorizonProfile":
+    def to_true(self, declination_deg: float) -> HorizonProfile:
         """Bearings referred to true north.  A compass bearing plus the (east
         positive) declination is the true bearing; true bearings pass unchanged."""
         if self.reference == "true":
@@ -48,7 +48,7 @@ class HorizonProfile:
         )
         return HorizonProfile(pts, "true")
 
-    def mask(self) -> "HorizonMask":
+    def mask(self) -> HorizonMask:
         if self.reference != "true":
             raise ValueError("convert compass bearings with to_true() before building a mask")
         return HorizonMask.from_points(self.points)
@@ -68,13 +68,13 @@ class HorizonMask:
         self.labels = tuple(labels[i] for i in order) if labels else ("",) * len(order)
 
     @classmethod
-    def from_points(cls, points) -> "HorizonMask":
+    def from_points(cls, points) -> HorizonMask:
         az = np.array([p.azimuth_deg % 360.0 for p in points], dtype=np.float64)
         el = np.array([min(max(p.elevation_deg, 0.0), 90.0) for p in points], dtype=np.float64)
         return cls(az, el, tuple(p.label for p in points))
 
     @classmethod
-    def clear(cls) -> "HorizonMask":
+    def clear(cls) -> HorizonMask:
         return cls(np.zeros(0), np.zeros(0))
 
     @property
@@ -96,7 +96,7 @@ class HorizonMask:
         xp, fp = self._knots()
         return np.interp(a, xp, fp)
 
-    def with_sector_cleared(self, start_deg: float, end_deg: float) -> "HorizonMask":
+    def with_sector_cleared(self, start_deg: float, end_deg: float) -> HorizonMask:
         """This mask with its knots in the sector [start, end) (clockwise, see
         :func:`in_sector`; (0, 360) is all round) set to 0: what the site would
         see if that obstruction were gone.  For a sector from :meth:`sectors_above`,

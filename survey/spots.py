@@ -108,7 +108,7 @@ class SpotRanking:
     target_blocked: float
     survey_point: dict
     warnings: list[str] = field(default_factory=list)
-    evaluator: "SpotEvaluator | None" = field(default=None, repr=False)  # to re-check spots, e.g. as trees grow
+    evaluator: SpotEvaluator | None = field(default=None, repr=False)  # to re-check spots, e.g. as trees grow
 
     @property
     def best(self) -> SpotResult:

@@ -578,7 +578,7 @@ def test_panorama_tracks_land_where_the_frame_says():
                  mask=lambda a: np.where((a >= 40) & (a <= 80), 35.0, 0.0))
     plot = np.zeros(px.shape[:2], bool)
     plot[int(f.top) + 2:int(f.top + f.height) - 2, int(f.left) + 2:int(f.left + f.width) - 2] = True
-    for want, cls, (a, e) in ((True, is_clear, (200.0, 52.0)), (True, is_blocked, (60.0, 30.0))):
+    for cls, (a, e) in ((is_clear, (200.0, 52.0)), (is_blocked, (60.0, 30.0))):
         ys, xs = np.nonzero(cls(px) & plot)
         assert xs.size > 10
         x, y = panorama_xy(a, e, f)

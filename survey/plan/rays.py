@@ -49,7 +49,7 @@ def _panel_hits(sc: Scene, ox, oy, oz):
     observer: observer index, azimuth index, elevation (deg), distance (m); and
     the observers standing on a panel below its top (no sky)."""
     top = np.maximum(sc.hP, sc.hQ)
-    I, J = np.nonzero(top[None, :] > oz[:, None])
+    I, J = np.nonzero(top[None, :] > oz[:, None])  # noqa: E741 (observer, panel indices)
     px, py = sc.P[J, 0] - ox[I], sc.P[J, 1] - oy[I]
     qx, qy = sc.Q[J, 0] - ox[I], sc.Q[J, 1] - oy[I]
     ex, ey = qx - px, qy - py
@@ -86,7 +86,7 @@ def _tree_hits(sc: Scene, ox, oy, oz, years: float):
     near side at s = t - sqrt(r^2 - p^2) (t along the ray to the centre's foot,
     p the centre's distance off the ray)."""
     h_all = sc.tree_h + sc.tree_g * years
-    I, J = np.nonzero(h_all[None, :] > oz[:, None])
+    I, J = np.nonzero(h_all[None, :] > oz[:, None])  # noqa: E741 (observer, tree indices)
     cx, cy = sc.tree_xy[J, 0] - ox[I], sc.tree_xy[J, 1] - oy[I]
     d, r, h, z = np.hypot(cx, cy), sc.tree_r[J], h_all[J], oz[I]
     inside = d <= r
