@@ -17,13 +17,15 @@ concept each (README, "Layout").  Nothing outside ``survey`` needs a private
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+from . import palette
 from .angles import format_dms, parse_angle
 from .cli import Command, add_run_options, check_run_args
 from .cli import main as command_line
 from .demos import DemoSite, bundled_demo, demo_sites, resolve_site_path
 from .errors import InputError, Problems
 from .evaluate import Evaluator
-from .figures import centroid, compact_pct, obstacle_shapes, palette, plan_cells, plan_extent_points, spots_plan_inputs
 from .fileio import parse_toml, read_text
 from .horizon import HorizonMask, HorizonPoint, HorizonProfile, parse_point, read_horizon_csv
 from .mask import site_declination, site_mask
@@ -47,3 +49,18 @@ __all__ = [
     "short_note", "Site", "site_declination", "site_from_dict", "site_mask", "SiteRun", "spot_note",
     "spots_plan_inputs", "Terminal", "TrackCache", "utc", "window_start", "WindowSpec", "write_report",
 ]
+
+if TYPE_CHECKING:
+    from .figures import centroid, compact_pct, obstacle_shapes, plan_cells, plan_extent_points, spots_plan_inputs
+
+# The figure helpers pull in Pillow: imported when first asked for, so the command
+# line starts without them.
+_FROM_FIGURES = ("centroid", "compact_pct", "obstacle_shapes", "plan_cells", "plan_extent_points", "spots_plan_inputs")
+
+
+def __getattr__(name: str):
+    if name in _FROM_FIGURES:
+        from . import figures
+
+        return getattr(figures, name)
+    raise AttributeError(f"module 'survey.api' has no attribute {name!r}")

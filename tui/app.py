@@ -4,7 +4,8 @@ the tabs and the engine.
 Flow: a tab reports an edit -> the app builds the new site (only from valid
 values) -> it is saved a moment later (atomically) and assessed in a worker
 thread, reusing the cached sky tracks -> every tab and the status line show the
-new findings.  Errors become messages in the app, never tracebacks, and leave
+new findings.  The app reaches the tabs only through the workspace's methods
+(screens/workspace.py).  Errors become messages in the app, never tracebacks, and leave
 the open site as it was."""
 
 from __future__ import annotations
@@ -17,36 +18,34 @@ from pathlib import Path
 from textual import work
 from textual.app import App, SystemCommand
 from textual.binding import Binding
-from textual.widgets import ProgressBar
 from textual.worker import get_current_worker
 
 from survey.api import (
     InputError,
-    read_horizon_csv,
+    palette,
     recommendations,
     site_declination,
     write_report,
 )
 
 from .demos import bundled_demo, copy_demo
-from .fields import apply_fields, new_site_defaults
-from .panes.findings import FindingsPane
 from .panes.horizon_editor import HorizonEditor
 from .panes.site_form import SiteForm
-from .panes.sky_view import SkyView
 from .panes.spots_view import SpotsView
 from .screens.dialogs import (
     AskChoice,
     AskText,
     ExportReport,
     SafetyNote,
+    check_new_site_path,
     check_site_path,
+    names_a_file,
+    new_site_path,
     site_file_in,
 )
 from .screens.start import StartScreen
 from .screens.workspace import Workspace
 from .session import Assessor, Cancelled, Session, fleet_choice_for, slug
-from .widgets.status import StatusLine
 
 AUTOSAVE_S = 1.5  # a killed terminal loses at most this much typing
 FORM_SETTLE_S = 0.5  # a form edit is taken once typing pauses this long
@@ -61,6 +60,12 @@ class LeositeApp(App):
         Binding("f1", "safety", "Safety"),
         Binding("ctrl+t", "toggle_daylight", "Day/night", show=False),
     ]
+
+    def get_css_variables(self) -> dict[str, str]:
+        """The stylesheet's colours that carry a meaning come from the engine's one
+        palette (``$verdict-qualified`` ... in leosite.tcss), not typed out there."""
+        hues = {f"verdict-{k}": palette.hex_code(v) for k, v in palette.VERDICT.items()}
+        return {**super().get_css_variables(), **hues}
 
     def __init__(self, site_path: str | Path | None = None, assessor: Assessor | None = None,
                  work_root: str | Path | None = None):
@@ -130,26 +135,9 @@ class LeositeApp(App):
         self.call_after_refresh(self._load_workspace)
 
     def _load_workspace(self) -> None:
-        ws, site = self.workspace, self.session.site
-        form = ws.query_one(SiteForm)
-        form.load(site)
-        if site is None:  # a new site: the defaults the engine would assume, shown, and today's date
-            for key, text in new_site_defaults(self._new_name).items():
-                form.prefill(key, text)
-        ws.show_refused()
-        editor = ws.query_one(HorizonEditor)
+        site = self.session.site
+        self.workspace.load(site, self._new_name, self._declination(site) if site is not None else (None, ""))
         if site is not None:
-            dec, note = self._declination(site)
-            editor.load(site.horizon, dec, note)
-            editor.set_min_elevation(site.terminal.min_elevation_deg)
-        else:
-            editor.load(editor.profile, None)
-        self._status(site_name=site.name if site else "", saved="" if site is None else "saved")
-        if site is None:
-            ws.action_show_tab("site")
-            self._status(state="stale: enter the site's name and coordinates")
-        else:
-            ws.action_show_tab("findings")
             self.request_assessment()
 
     def _declination(self, site) -> tuple[float | None, str]:
@@ -167,17 +155,12 @@ class LeositeApp(App):
     def _form_problem(self) -> str | None:
         """The first refused field as 'Label: reason' (the form is the one record)."""
         ws = self.workspace
-        return ws.query_one(SiteForm).first_problem() if ws is not None else None
+        return ws.form_problem() if ws is not None else None
 
     def on_site_form_changed(self, event: SiteForm.Changed) -> None:
-        """Typing in a field: the field is checked at once (by the form); the site
-        follows once typing pauses, so half-typed numbers ("9" on the way to
-        "95.5") are never assessed or saved."""
-        form = self.workspace.query_one(SiteForm)
-        self._status(site_name=form.values.get("site.name") or "")  # the name as typed, even before it is valid
-        if self._form_problem:
-            self._status(state=f"stale: fix {self.workspace.query_one(SiteForm).first_problem_label()}",
-                         saved="unsaved")
+        """Typing in a field: the field is checked at once (by the form, and the
+        workspace shows it); the site follows once typing pauses, so half-typed
+        numbers ("9" on the way to "95.5") are never assessed or saved."""
         if self._form_timer is not None:
             self._form_timer.stop()
         self._form_timer = self.set_timer(FORM_SETTLE_S, self._form_settled)
@@ -192,29 +175,20 @@ class LeositeApp(App):
     def _site_edited(self) -> None:
         """Build the site from the form and the horizon table; only a valid one
         goes on to be saved and assessed."""
-        ws = self.workspace
-        form = ws.query_one(SiteForm)
-        if form.problems:
-            self._status(state=f"stale: fix {form.first_problem_label()}", saved="unsaved")
-            return
-        values = form.values  # as the fields read now (a chosen spot reloads them)
-        editor = ws.query_one(HorizonEditor)
-        base = self.session.site
+        ws, base = self.workspace, self.session.site
         try:
-            site = apply_fields(values, base, self.session.path)
+            site = ws.edited_site(base, self.session.path)
         except (TypeError, ValueError, KeyError) as exc:
             self._status(state=f"stale: {exc}")
             return
-        site = replace(site, horizon=editor.profile)
-        if site == self.session.site:
+        if site is None or site == base:  # a field refused (the status line says which), or nothing changed
             return
         moved = base is None or (site.latitude_deg, site.longitude_deg, site.elevation_m) != (
             base.latitude_deg, base.longitude_deg, base.elevation_m)
         self.session.update(site)
         if moved:
-            dec, note = self._declination(site)
-            editor.set_declination(dec, note)
-        editor.set_min_elevation(site.terminal.min_elevation_deg)
+            ws.set_declination(*self._declination(site))
+        ws.set_min_elevation(site.terminal.min_elevation_deg)
         self._status(site_name=site.name, saved="unsaved")
         self._schedule_autosave()
         self._edited_at = time.monotonic()
@@ -289,14 +263,11 @@ class LeositeApp(App):
     def _progress(self, generation: int, fraction: float) -> None:
         if generation != self._generation or self.workspace is None:
             return
-        bar = self.workspace.query_one("#progress", ProgressBar)
-        bar.display = True
-        bar.update(progress=100 * fraction)
-        self._status(state=f"computing sky tracks {100 * fraction:.0f} % (Esc cancels)")
+        self.workspace.show_progress(fraction)
 
     def _hide_progress(self) -> None:
         if self.workspace is not None:
-            self.workspace.query_one("#progress", ProgressBar).display = False
+            self.workspace.hide_progress()
 
     def _assess_failed(self, generation: int, problems: list[str]) -> None:
         if generation != self._generation:
@@ -309,24 +280,14 @@ class LeositeApp(App):
         if generation != self._generation or self.workspace is None or run is not self.latest:
             return
         self.advice = advice
-        self.workspace.query_one(FindingsPane).show_advice(advice)
+        self.workspace.show_advice(advice)
 
     def _assess_done(self, generation: int, run, site) -> None:
         if generation != self._generation or self.workspace is None:
             return
         self.latest, self.advice = run, []
         self._assessed = site  # the site as edited (the run's may carry a --min-elevation override)
-        self._hide_progress()
-        a = run.assessment
-        self._status(verdict=a.verdict, blocked=a.blocked_fraction, interruption=a.interruption,
-                     availability=a.availability, state="")
-        ws = self.workspace
-        ws.query_one(FindingsPane).show_run(run)
-        ws.query_one(SkyView).show_run(run)
-        ws.query_one(SpotsView).show_run(run)
-        editor = ws.query_one(HorizonEditor)
-        if run.site.horizon.reference == "magnetic":
-            editor.set_declination(run.declination.declination_deg, "; ".join(run.declination.warnings))
+        self.workspace.show_run(run)  # the status line and every tab
         if self._edited_at is not None:  # edit to findings on screen, for bench/bench_ui.py
             edited, self._edited_at = self._edited_at, None
             self.call_after_refresh(lambda: self.update_times.append(time.monotonic() - edited))
@@ -344,18 +305,14 @@ class LeositeApp(App):
         self.request_assessment()
 
     def _status(self, **values) -> None:
-        ws = self.workspace
-        if ws is None:
-            return
-        status = ws.query_one(StatusLine)
-        for k, v in values.items():
-            setattr(status, k, v)
+        if self.workspace is not None:
+            self.workspace.set_status(**values)
 
     # ---------------------------------------------------------------- spots
-    def spots_tab_opened(self) -> None:
-        view = self.workspace.query_one(SpotsView)
-        if view.ranking is None and self.latest is not None and self.latest.site.plan is not None:
-            self.rank_spots(view.years)
+    def spots_tab_opened(self, years: float) -> None:
+        """The Spots tab opened with nothing ranked: rank the plan's spots, if any."""
+        if self.latest is not None and self.latest.site.plan is not None:
+            self.rank_spots(years)
 
     def on_spots_view_rank_requested(self, event: SpotsView.RankRequested) -> None:
         self.rank_spots(event.years)
@@ -386,7 +343,7 @@ class LeositeApp(App):
     def _ranked(self, run, ranking) -> None:
         self._status(state="")
         if self.workspace is not None:
-            self.workspace.query_one(SpotsView).show_ranking(run, ranking)
+            self.workspace.show_ranking(run, ranking)
 
     def on_spots_view_use_spot(self, event: SpotsView.UseSpot) -> None:
         c = event.result.candidate
@@ -415,45 +372,28 @@ class LeositeApp(App):
     def _set_site(self, site) -> None:
         """A site changed outside the form (a spot chosen): show it, save it, assess it."""
         self.session.update(site)
-        self.workspace.query_one(SiteForm).load(self.session.site)
+        self.workspace.show_site(self.session.site)
         self._status(saved="unsaved")
         self._schedule_autosave()
         self.request_assessment()
 
     # ---------------------------------------------------------------- files
-    def _new_site_path(self, text: str) -> Path:
-        """A new site's file: a typed path to a .toml file, or a site name, kept
-        in its own folder under the work folder."""
-        if text.lower().endswith(".toml") or "/" in text:
-            return Path(text).expanduser()
-        return self.work_root / slug(text) / "site.toml"
-
     def action_new_site(self) -> None:
-        def check(text: str) -> str | None:
-            if not text:
-                return "type the site's name (or a path ending in site.toml)"
-            p = self._new_site_path(text)
-            if p.suffix.lower() != ".toml":
-                return "a site file name ends in .toml"
-            if p.exists():
-                return f"{p} already exists: open it instead, or choose another name"
-            return None
-
         def answered(text) -> None:
             if not text:
                 return
             try:
-                session = Session.new(self._new_site_path(text))
+                session = Session.new(new_site_path(text, self.work_root))
             except InputError as exc:
                 self.notify(exc.problems[0], severity="error")
                 return
-            named = not (text.lower().endswith(".toml") or "/" in text)
-            self._enter(session, name=text if named else "")
+            self._enter(session, name="" if names_a_file(text) else text)
 
         self.push_screen(AskText("New site: its name", "",
                                  f"Kept in {self.work_root}/<name>/site.toml (or type a path ending in "
                                  "site.toml).  The file is written once the site has valid coordinates.",
-                                 check, placeholder="e.g. Hillside farm"), answered)
+                                 lambda text: check_new_site_path(text, self.work_root),
+                                 placeholder="e.g. Hillside farm"), answered)
 
     def action_open_site(self) -> None:
         def answered(text) -> None:
@@ -464,42 +404,8 @@ class LeositeApp(App):
                                  check_site_path, placeholder="path/to/site.toml"), answered)
 
     def action_import_horizon(self) -> None:
-        if self.session is None:
-            return
-        folder = self.session.path.parent
-
-        def answered(text) -> None:
-            if not text:
-                return
-            path = Path(text).expanduser()
-            if not path.is_absolute():
-                path = folder / path
-            try:
-                points = read_horizon_csv(path)
-            except InputError as exc:
-                self.notify("\n".join(exc.problems[:4]), title="Horizon CSV not imported", severity="error",
-                            timeout=10)
-                return
-            editor = self.workspace.query_one(HorizonEditor)
-            if not editor.profile.points:
-                editor.replace_points(points, append=False)
-                self.notify(f"Imported {len(points)} points from {path}")
-                return
-
-            def how(answer) -> None:
-                if answer in ("replace", "append"):
-                    editor.replace_points(points, append=answer == "append")
-                    self.notify(f"Imported {len(points)} points from {path} ({answer}d)")
-
-            self.push_screen(AskChoice(f"{len(points)} points read from {path.name}",
-                                       [("replace", "Replace the table"), ("append", "Add to the end"),
-                                        ("cancel", "Cancel")],
-                                       f"The table holds {len(editor.profile.points)} points.  Bearings are taken "
-                                       f"as {editor.profile.reference} like the table's."), how)
-
-        self.push_screen(AskText("Import horizon points from a CSV file", "",
-                                 "Columns azimuth_deg,elevation_deg[,distance_m][,label]; relative names are "
-                                 f"taken from {folder}", placeholder="horizon.csv"), answered)
+        if self.session is not None and self.workspace is not None:
+            self.workspace.import_horizon(self.session.path.parent)
 
     def action_load_satellites(self) -> None:
         def answered(text) -> None:
@@ -556,21 +462,26 @@ class LeositeApp(App):
                 return
             path, paper = answer
             if not path.exists() or path.resolve() in self.session.reports:
-                self._write_report(self.latest, path, paper)
+                self._report(path, paper)
                 return
             self.push_screen(AskChoice(f"{path.name} already exists", [("keep", "Keep it, pick another name"),
                                                                       ("replace", "Replace it")],
                                        str(path)),
-                             lambda a: self._write_report(self.latest, path, paper) if a == "replace"
-                             else self._ask_report_path())
+                             lambda a: self._report(path, paper) if a == "replace" else self._ask_report_path())
 
         self.push_screen(ExportReport(suggested), answered)
 
+    def _report(self, path: Path, paper: str) -> None:
+        """Write the report of the findings shown, with the Spots tab's ranking
+        when it is of this run (so the engine does not rank the spots again)."""
+        ws = self.workspace
+        self._write_report(self.latest, path, paper, ws.ranking_for(self.latest) if ws is not None else None)
+
     @work(thread=True, exclusive=True, group="report", exit_on_error=False)
-    def _write_report(self, run, path: Path, paper: str) -> None:
+    def _write_report(self, run, path: Path, paper: str, ranking=None) -> None:
         self.call_from_thread(self._status, state="writing the report…")
         try:
-            out = write_report(run, path, paper=paper, fleet_choice=self.assessor.fleet_choice)
+            out = write_report(run, path, paper=paper, fleet_choice=self.assessor.fleet_choice, ranking=ranking)
         except InputError as exc:
             self.call_from_thread(self.notify, exc.problems[0], title="Report not written", severity="error",
                                   timeout=10)
@@ -617,8 +528,7 @@ class LeositeApp(App):
         """A light, high-contrast theme reads better in sunlight."""
         self.theme = "textual-light" if self.theme != "textual-light" else "textual-dark"
         if self.workspace is not None and self.latest is not None:  # the verdict's hue follows the theme
-            self.workspace.query_one(FindingsPane).show_run(self.latest)
-            self.workspace.query_one(FindingsPane).show_advice(self.advice)
+            self.workspace.show_findings(self.latest, self.advice)
 
     # ---------------------------------------------------------------- palette
     def get_system_commands(self, screen):

@@ -53,7 +53,7 @@ class Assessor:
         return run_site(site, self.fleet_choice, self.start, self.hours, self.step_s, self.min_elevation_deg,
                         progress=report, cache=self.cache)
 
-    def with_fleet(self, choice: FleetChoice) -> "Assessor":
+    def with_fleet(self, choice: FleetChoice) -> Assessor:
         """The same window with another fleet (a new, empty track cache)."""
         return Assessor(choice, self.start, self.hours, self.step_s, self.min_elevation_deg)
 
@@ -83,13 +83,13 @@ class Session:
     reports: list[Path] = field(default_factory=list)
 
     @classmethod
-    def open(cls, path: str | Path) -> "Session":
+    def open(cls, path: str | Path) -> Session:
         path = Path(path).resolve()
         site = load_site(path)
         return cls(path, site, site)
 
     @classmethod
-    def new(cls, path: str | Path) -> "Session":
+    def new(cls, path: str | Path) -> Session:
         """A site not yet on disk; refuses to take over an existing file."""
         path = Path(path).resolve()
         if path.exists():

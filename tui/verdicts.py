@@ -7,7 +7,7 @@ from rich.text import Text
 
 from survey.api import palette
 
-# The engine's verdict hues (figures.palette.VERDICT), the same the report uses.
+# The engine's verdict hues (survey/palette.py, VERDICT), the same the report uses.
 STYLE = {k: f"bold {palette.hex_code(v)}" for k, v in palette.VERDICT.items()}
 STYLE_ON_LIGHT = {k: f"bold {palette.hex_code(v)}" for k, v in palette.VERDICT_ON_LIGHT.items()}
 GLYPH = {"qualified": "✓", "marginal": "≈", "not-qualified": "✗"}

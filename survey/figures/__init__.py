@@ -1,7 +1,7 @@
 """Pillow figures: the sky plot, the horizon panorama, the outage timeline and
 the site plan for spot search, one concept a module:
 
-- ``palette``: the Okabe & Ito colours and ramps (the one place colours live);
+- colours come from ``survey/palette.py`` (the one place colours live);
 - ``canvas``: the drawing surface (``Sheet``), fonts and text, dashes,
   hatching, nice-number ticks, PNG encoding; ``labels``: label placement and
   the compact numbers labels use; ``legend``: swatches and legend rows;
@@ -22,6 +22,7 @@ text sized in 1/1000ths of the image width so it prints legibly at about
 150 mm.  Values written in captions take survey/words.py's forms.
 """
 
+from ..palette import BLUE, BLUISH_GREEN, DOWN_BAR, ORANGE, REDDISH_PURPLE, SKY_BLUE, VERMILLION, YELLOW
 from ..words import duration
 from .canvas import encode_png, indexed_for_print
 from .from_run import (
@@ -35,7 +36,6 @@ from .from_run import (
     spots_plan_inputs,
 )
 from .labels import compact_pct
-from .palette import BLUE, BLUISH_GREEN, DOWN_BAR, ORANGE, REDDISH_PURPLE, SKY_BLUE, VERMILLION, YELLOW
 from .panorama import PanoramaFrame, horizon_panorama, panorama_frame, panorama_xy
 from .plan import plan_figure
 from .plan_layout import PlanFrame, PlanLayout, plan_layout, plan_xy

@@ -17,7 +17,7 @@ from functools import lru_cache
 import numpy as np
 from PIL import Image, ImageDraw, ImageFont
 
-from .palette import HATCH_ALPHA, OBSTRUCTION_HATCH, TEXT, TEXT_SOFT, WHITE
+from ..palette import HATCH_ALPHA, OBSTRUCTION_HATCH, TEXT, TEXT_SOFT, WHITE
 
 SS = 2  # supersampling factor; drawn at SS x size, then LANCZOS down
 

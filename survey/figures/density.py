@@ -12,7 +12,7 @@ from typing import NamedTuple
 import numpy as np
 from PIL import Image
 
-from .palette import BLOCKED_LUT, CLEAR_LUT
+from ..palette import BLOCKED_LUT, CLEAR_LUT
 
 
 class Density(NamedTuple):

@@ -5,8 +5,8 @@ take survey/words.py's forms instead."""
 
 from __future__ import annotations
 
+from ..palette import BLACK, WHITE
 from .canvas import clean, text
-from .palette import BLACK, WHITE
 
 
 def overlaps(a, b, pad=0.0) -> bool:

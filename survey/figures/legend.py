@@ -7,10 +7,7 @@ A swatch is ``swatch(draw, x, y, w, h, u)``: it draws itself in the box
 
 from __future__ import annotations
 
-from ..words import duration, elevation
-from .canvas import clean, dashed_hline, fit, hatch_lines, text
-from .labels import share_pct
-from .palette import (
+from ..palette import (
     BLACK,
     BLOCKED_LUT,
     CLEAR_LUT,
@@ -21,6 +18,9 @@ from .palette import (
     TEXT,
     lut_colour,
 )
+from ..words import duration, elevation
+from .canvas import clean, dashed_hline, fit, hatch_lines, text
+from .labels import share_pct
 
 
 def sw_gradient(lut):

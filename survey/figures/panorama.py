@@ -11,11 +11,7 @@ from typing import NamedTuple
 import numpy as np
 from PIL import Image
 
-from .canvas import SS, Sheet, blend_hatch, caption, check_size, clean, dashed_hline, font, header, text
-from .density import Density, paint_tracks, track_density, unrolled_density, upsample
-from .labels import boxed_label, deg_label, label_box, label_text, overlaps, place_label
-from .legend import density_caption, legend_flow, mask_items, track_items
-from .palette import (
+from ..palette import (
     BLACK,
     GRID_RGBA,
     OBSTRUCTION_EDGE,
@@ -25,6 +21,10 @@ from .palette import (
     TEXT_SOFT,
     WHITE,
 )
+from .canvas import SS, Sheet, blend_hatch, caption, check_size, clean, dashed_hline, font, header, text
+from .density import Density, paint_tracks, track_density, unrolled_density, upsample
+from .labels import boxed_label, deg_label, label_box, label_text, overlaps, place_label
+from .legend import density_caption, legend_flow, mask_items, track_items
 from .samples import mask_arrays, sample_weight, samples
 
 PANO_SIZE = (2400, 800)

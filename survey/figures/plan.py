@@ -11,23 +11,7 @@ import math
 import numpy as np
 from PIL import Image, ImageDraw
 
-from ..safety import short_note
-from .canvas import (
-    SS,
-    Sheet,
-    caption,
-    check_size,
-    dashed_hline,
-    fmt_num,
-    font,
-    hatch_pattern,
-    header,
-    nice_ceil,
-    nice_step,
-    text,
-)
-from .legend import legend_flow, sw_hatch
-from .palette import (
+from ..palette import (
     BLACK,
     BLOCKED_FRACTION_LUT,
     HATCH_BLEND,
@@ -45,6 +29,22 @@ from .palette import (
     WHITE,
     lut_colour,
 )
+from ..safety import short_note
+from .canvas import (
+    SS,
+    Sheet,
+    caption,
+    check_size,
+    dashed_hline,
+    fmt_num,
+    font,
+    hatch_pattern,
+    header,
+    nice_ceil,
+    nice_step,
+    text,
+)
+from .legend import legend_flow, sw_hatch
 from .plan_labels import labels_layer
 from .plan_layout import PlanFrame, PlanLayout, layout, plan_unit, plan_xy
 from .plan_shapes import ObstacleShape, check_markers, obstacle_shapes, plan_cells

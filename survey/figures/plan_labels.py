@@ -9,9 +9,9 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ..palette import TEXT, TEXT_SOFT, WHITE
 from .canvas import clean, font
 from .labels import compact_pct, label_text, place_label
-from .palette import TEXT, TEXT_SOFT, WHITE
 from .plan_shapes import ObstacleShape, centroid
 
 if TYPE_CHECKING:

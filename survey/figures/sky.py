@@ -15,12 +15,7 @@ from typing import NamedTuple
 import numpy as np
 from PIL import Image
 
-from ..words import azimuth, elevation
-from .canvas import SS, Sheet, blend_hatch, clean, dashed_circle, fit, font, header, text
-from .density import Density, paint_tracks, polar_density, track_density, upsample
-from .labels import boxed_label, deg_label
-from .legend import density_caption, mask_items, sw_line, track_items
-from .palette import (
+from ..palette import (
     BLACK,
     GRID_RGBA,
     OBSTRUCTION_EDGE,
@@ -32,6 +27,11 @@ from .palette import (
     TEXT_SOFT,
     WHITE,
 )
+from ..words import azimuth, elevation
+from .canvas import SS, Sheet, blend_hatch, clean, dashed_circle, fit, font, header, text
+from .density import Density, paint_tracks, polar_density, track_density, upsample
+from .labels import boxed_label, deg_label
+from .legend import density_caption, mask_items, sw_line, track_items
 from .samples import mask_arrays, sample_weight, samples
 
 _GRID_CELLS = 180  # density cells across the plot diameter (1 deg each)

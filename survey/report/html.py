@@ -6,7 +6,7 @@ from __future__ import annotations
 import base64
 import html
 
-from ..figures.palette import TEXT, TEXT_SOFT, VERDICT, hex_code
+from ..palette import TEXT, TEXT_SOFT, VERDICT, hex_code
 from .model import FIGURE_CAPTIONS
 
 _CSS = """
@@ -35,7 +35,7 @@ figcaption {{ color: var(--soft); font-size: .9rem; }}
 .sign div {{ border-top: 1px solid var(--ink); padding-top: .3rem; min-height: 4.5rem; }}
 @media (max-width: 36rem) {{ .sign {{ grid-template-columns: 1fr; }} .kv th {{ width: auto; }} body {{ font-size: 15px; }} }}
 @media print {{ body {{ max-width: none; }} h2 {{ break-after: avoid; }} figure, table {{ break-inside: avoid; }} }}
-""".format(  # the verdict hues from the one palette (figures.palette)
+""".format(  # the verdict hues from the one palette (survey/palette.py)
     ink=hex_code(TEXT), soft=hex_code(TEXT_SOFT), qualified=hex_code(VERDICT["qualified"]), marginal=hex_code(VERDICT["marginal"]),
     not_qualified=hex_code(VERDICT["not-qualified"]))
 

@@ -44,6 +44,7 @@ class SpotsView(Vertical):
     def __init__(self, **kw):
         super().__init__(**kw)
         self.ranking = None
+        self.ranked = None  # the run the ranking is of
         self.run = None
         self.rows: list = []
         self.years = 0.0
@@ -85,7 +86,7 @@ class SpotsView(Vertical):
             self._head()
 
     def show_ranking(self, run, ranking) -> None:
-        self.run, self.ranking = run, ranking
+        self.run, self.ranking, self.ranked = run, ranking, run
         table = self.query_one("#ranking", DataTable)
         table.clear(columns=True)
         table.add_columns("Spot", "Blocked", "H m", "Interr.", "Kind", "E m", "N m")  # what matters first
@@ -106,6 +107,12 @@ class SpotsView(Vertical):
         self._show_plan()
         if self.rows:
             table.move_cursor(row=0)
+
+    def ranking_of(self, run):
+        """The ranking shown when it is of ``run`` with the trees as they are
+        now (what a report would rank), else None."""
+        r = self.ranking
+        return r if r is not None and self.ranked is run and r.years == 0 else None
 
     def _selected(self):
         table = self.query_one("#ranking", DataTable)

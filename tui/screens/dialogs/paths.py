@@ -1,4 +1,5 @@
-"""Whether a typed file name can be used: a report to write, a site to open."""
+"""Whether a typed file name can be used: a report to write, a site to open,
+a new site to start."""
 
 from __future__ import annotations
 
@@ -6,6 +7,8 @@ import os
 from pathlib import Path
 
 from survey.api import InputError, format_for
+
+from ...session import slug
 
 
 def check_report_path(text: str) -> str | None:
@@ -40,3 +43,28 @@ def check_site_path(text: str) -> str | None:
 
 def site_file_in(path: Path) -> Path:
     return path / "site.toml" if path.is_dir() else path
+
+
+def names_a_file(text: str) -> bool:
+    """Whether a new site's answer is a path (to a .toml file) rather than a name."""
+    return text.lower().endswith(".toml") or "/" in text
+
+
+def new_site_path(text: str, work_root: Path) -> Path:
+    """A new site's file: a typed path to a .toml file, or a site name, kept
+    in its own folder under ``work_root``."""
+    if names_a_file(text):
+        return Path(text).expanduser()
+    return work_root / slug(text) / "site.toml"
+
+
+def check_new_site_path(text: str, work_root: Path) -> str | None:
+    """Why ``text`` cannot start a new site (a name or a path), or None."""
+    if not text:
+        return "type the site's name (or a path ending in site.toml)"
+    p = new_site_path(text, work_root)
+    if p.suffix.lower() != ".toml":
+        return "a site file name ends in .toml"
+    if p.exists():
+        return f"{p} already exists: open it instead, or choose another name"
+    return None
