@@ -22,9 +22,11 @@ from survey.pipeline import FleetChoice, run_site
 from survey.report import (
     load_report_inputs,
     recommendations,
-    render_report,
     report_model,
     write_report,
+)
+from survey.report import (
+    render_report as _render_report,
 )
 from survey.site import load_site
 
@@ -34,6 +36,19 @@ DEMOS = ("alder-brook-farm", "mill-lane-terrace", "tussock-ridge-croft")
 WHEN = datetime(2026, 12, 1, 12, 0, tzinfo=timezone.utc)
 # Page sizes in PostScript points (1/72 in): ISO 216 A4 is 210 x 297 mm; ANSI US Letter is 8.5 x 11 in.
 PAGE_PT = {"a4": (210 / 25.4 * 72, 297 / 25.4 * 72), "letter": (612.0, 792.0)}
+
+
+_RENDERED: dict = {}
+
+
+def render_report(run, fmt, paper="a4", **kw):
+    """survey.report.render_report, kept per run, format and paper within this
+    module (the figures take most of a report's time; several tests read the
+    same file).  The run is kept with its bytes, so its id is never reused."""
+    key = (id(run), fmt, paper, tuple(sorted(kw.items())))
+    if key not in _RENDERED:
+        _RENDERED[key] = (run, _render_report(run, fmt, paper, **kw))
+    return _RENDERED[key][1]
 
 
 @pytest.fixture(scope="module")
