@@ -325,7 +325,7 @@ def test_plan_cells_markers_best_selected():
     # steps of 1.25 %: 0 and 1 % -> ·, 3 % -> ◐ (2.5..3.75), 4.5 % -> ● (3.75..5).
     for g in "\u00b7\u25d0\u25cf":
         assert g in text
-    assert "\u2264" + "5.0%" in text and "1 mast" in text and "A bracket" in text
+    assert "\u2264" + "5.0 %" in text and "1 mast" in text and "A bracket" in text
 
 
 def test_plan_sizes_and_monochrome():
@@ -379,7 +379,7 @@ def test_plan_legend_keeps_whole_items():
                          SITE + " site point", BEST + " best", "1 north mast", "A corner bracket", "[ ] selected"):
                 assert item in legend, (w, h, item)
     wide = "\n".join(lines_of(plan_chart(obstacles, cells, markers, best, 200, 60, colour=False)))
-    assert "1 north mast 6 m 2.0%" in wide and "best: north mast 6 m 2.0%" in wide  # room: the figures too
+    assert "1 north mast 6 m 2.0 %" in wide and "best: north mast 6 m 2.0 %" in wide  # room: the figures too
 
 
 # ---------------------------------------------------------------- a real run

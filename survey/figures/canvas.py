@@ -203,36 +203,6 @@ def hatch_lines(draw, box, u, fill, width_u=2.2, period_u=14.0):
 # ---------------------------------------------------------------------------
 # Nice numbers for ticks and scales
 # ---------------------------------------------------------------------------
-def nice_step(span: float, target: int) -> float:
-    """A 1, 2 or 5 x 10^k step giving about ``target`` intervals over ``span``."""
-    if not span > 0:
-        return 1.0
-    raw = span / max(1, target)
-    k = 10.0 ** math.floor(math.log10(raw))
-    for m in (1.0, 2.0, 5.0, 10.0):
-        if m * k >= raw * 0.999:
-            return m * k
-    return 10.0 * k
-
-
-def nice_floor(v: float) -> float:
-    """Largest 1, 2 or 5 x 10^k not above ``v`` (v > 0)."""
-    k = 10.0 ** math.floor(math.log10(v))
-    for m in (5.0, 2.0, 1.0):
-        if m * k <= v * 1.0000001:
-            return m * k
-    return k
-
-
-def nice_ceil(v: float) -> float:
-    """Smallest 1, 2, 2.5, 5 x 10^k not below ``v`` (v > 0)."""
-    k = 10.0 ** math.floor(math.log10(v))
-    for m in (1.0, 2.0, 2.5, 5.0, 10.0):
-        if m * k >= v * 0.9999999:
-            return m * k
-    return 10.0 * k
-
-
 def fmt_num(v: float) -> str:
     """A tick value: whole numbers without a decimal point."""
     return f"{v:.0f}" if abs(v - round(v)) < 1e-6 else f"{v:g}"

@@ -6,6 +6,7 @@ take survey/words.py's forms instead."""
 from __future__ import annotations
 
 from ..palette import BLACK, WHITE
+from ..words import NBSP, pct
 from .canvas import clean, text
 
 
@@ -60,18 +61,15 @@ def boxed_label(draw, xy, s, fnt, u, box=None):
 
 
 def compact_pct(f: float) -> str:
-    """A percentage for a figure's legend: 4.6%, 12%."""
-    v = 100.0 * float(f)
-    return f"{v:.1f}%" if v < 9.95 else f"{v:.0f}%"
+    """A percentage on a figure: the one percentage format (words.pct), with a
+    plain space (labels are placed whole, never wrapped)."""
+    return pct(f).replace(NBSP, " ")
 
 
 def share_pct(t: float, total: float) -> str:
-    """"6.8%": a share of track time for a legend entry ("" with no tracks);
-    one decimal near 0 and 100 %, so a small but real share never reads "0%"."""
-    if total <= 0:
-        return ""
-    pct = 100.0 * t / total
-    return f"{pct:.1f}%" if 0 < pct < 10 or 90 < pct < 100 else f"{pct:.0f}%"
+    """A share of track time for a legend entry ("" with no tracks), in the one
+    percentage format: one decimal, so a small but real share never reads 0 %."""
+    return compact_pct(t / total) if total > 0 else ""
 
 
 def deg_label(v: float) -> str:

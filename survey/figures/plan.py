@@ -11,6 +11,7 @@ import math
 import numpy as np
 from PIL import Image, ImageDraw
 
+from ..geometry import nice_ceil, nice_step
 from ..palette import (
     BLACK,
     BLOCKED_FRACTION_LUT,
@@ -40,8 +41,6 @@ from .canvas import (
     font,
     hatch_pattern,
     header,
-    nice_ceil,
-    nice_step,
     text,
 )
 from .legend import legend_flow, sw_hatch

@@ -8,7 +8,8 @@ from typing import NamedTuple
 
 import numpy as np
 
-from .canvas import check_size, nice_ceil, nice_floor
+from ..geometry import nice_ceil, nice_floor
+from .canvas import check_size
 from .plan_shapes import marked_spots, obstacle_shapes, plan_cells, plan_extent_points, shape_points
 
 

@@ -15,6 +15,7 @@ from typing import NamedTuple
 import numpy as np
 from PIL import Image
 
+from ..geometry import cone_edge
 from ..palette import (
     BLACK,
     GRID_RGBA,
@@ -94,23 +95,6 @@ def project(az_deg, el_deg, frame: PlotFrame):
     az = np.radians(np.asarray(az_deg, dtype=np.float64))
     r = frame.radius * (90.0 - np.asarray(el_deg, dtype=np.float64)) / 90.0
     return frame.cx + r * np.sin(az), frame.cy - r * np.cos(az)
-
-
-def _cone_edge(az0_deg: float, el0_deg: float, half_deg: float, n: int = 721):
-    """Az/el (deg) of points on a cone of half-angle ``half_deg`` about a boresight.
-
-    Treats elevation as latitude and azimuth as longitude on the unit sphere
-    and steps the spherical "destination point" formula round all bearings.
-    """
-    lat1 = math.radians(el0_deg)
-    lon1 = math.radians(az0_deg)
-    d = math.radians(half_deg)
-    th = np.linspace(0.0, 2.0 * math.pi, n)
-    sin_lat2 = np.sin(lat1) * np.cos(d) + np.cos(lat1) * np.sin(d) * np.cos(th)
-    lat2 = np.arcsin(np.clip(sin_lat2, -1.0, 1.0))
-    lon2 = lon1 + np.arctan2(np.sin(th) * np.sin(d) * np.cos(lat1),
-                             np.cos(d) - np.sin(lat1) * sin_lat2)
-    return np.degrees(lon2) % 360.0, np.degrees(lat2)
 
 
 def sky_plot(*, az_deg, el_deg, blocked, weight_s, mask_az_deg, mask_el_deg,
@@ -245,7 +229,7 @@ def _fov_layer(sheet: Sheet, fr: PlotFrame, fov) -> None:
     """The field-of-view cone's outline above the horizon and its boresight."""
     draw, u = sheet.draw, sheet.u
     b_az, b_el, half = (float(v) for v in fov)
-    e_az, e_el = _cone_edge(b_az, b_el, half)
+    e_az, e_el = cone_edge(b_az, b_el, half)
     px, py = project(e_az, np.clip(e_el, 0.0, 90.0), fr)
     vis = e_el >= 0.0
     # Split into runs above the horizon; the part below is not drawn.

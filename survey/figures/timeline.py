@@ -11,9 +11,10 @@ from typing import NamedTuple
 import numpy as np
 from PIL import Image
 
+from ..geometry import nice_ceil
 from ..palette import DOWN_BAR, LINK_UP, LINK_UP_GRID, OUTSIDE_EDGE, RIM, RULE, TEXT, TEXT_SOFT, WHITE
 from ..words import duration
-from .canvas import SS, Sheet, check_size, fit, fmt_num, font, header, nice_ceil, text
+from .canvas import SS, Sheet, check_size, fit, fmt_num, font, header, text
 from .legend import legend_flow, sw_box
 
 

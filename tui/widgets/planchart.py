@@ -37,10 +37,13 @@ from rich.text import Text
 from survey.api import (
     centroid,
     compact_pct,
+    nice_ceil,
+    nice_floor,
     obstacle_shapes,
     palette,
     plan_cells,
     plan_extent_points,
+    points_in_polygon,
     spots_plan_inputs,
 )
 
@@ -76,18 +79,6 @@ _STYLE = {
     "marker": "bold", "best": "bold", "site": None, "selected": "reverse bold",
     "north": "bold", "scale": None, "soft": GREY, "label": "bold",
 }
-
-
-def _nice_floor(v: float) -> float:
-    """Largest 1, 2 or 5 x 10^k not above ``v`` (v > 0)."""
-    k = 10.0 ** math.floor(math.log10(v))
-    return next((m * k for m in (5.0, 2.0, 1.0) if m * k <= v * 1.0000001), k)
-
-
-def _nice_ceil(v: float) -> float:
-    """Smallest 1, 2, 2.5 or 5 x 10^k not below ``v`` (v > 0)."""
-    k = 10.0 ** math.floor(math.log10(v))
-    return next((m * k for m in (1.0, 2.0, 2.5, 5.0, 10.0) if m * k >= v * 0.9999999), 10.0 * k)
 
 
 def _fmt_num(v: float) -> str:
@@ -136,26 +127,12 @@ def plan_geometry(points_m: np.ndarray, width: int, height: int, legend_rows: in
     s_fit = max(2 * half_e / width, 2 * half_n / (2 * rows))
     # A round scale bar about a fifth of the width, a whole number of columns:
     # coarsen s slightly so that scale_m / s is an integer.
-    scale_m = _nice_floor(max(0.2 * width * s_fit, 1e-3))
+    scale_m = nice_floor(max(0.2 * width * s_fit, 1e-3))
     k = max(1, int(math.floor(scale_m / s_fit + 1e-9)))
     s = scale_m / k
     c0 = int(round((width - 1) / 2.0 - ec / s))
     r0 = int(round((rows - 1) / 2.0 + nc / (2 * s)))
     return PlanGeometry(rows, width, s, r0, c0, scale_m, k)
-
-
-def _poly_inside(poly: np.ndarray, x: np.ndarray, y: np.ndarray) -> np.ndarray:
-    """Even-odd rule (ray casting) for points (x, y) against a polygon (k, 2)."""
-    inside = np.zeros(x.shape, dtype=bool)
-    xs, ys = poly[:, 0], poly[:, 1]
-    for i in range(len(poly)):
-        xa, ya, xb, yb = xs[i - 1], ys[i - 1], xs[i], ys[i]
-        if ya == yb:
-            continue
-        crosses = (ya > y) != (yb > y)
-        xi = xa + (y - ya) * (xb - xa) / (yb - ya)
-        inside ^= crosses & (x < xi)
-    return inside
 
 
 def _line_glyph(de_m: float, dn_m: float, dashed: bool = False) -> str:
@@ -230,7 +207,7 @@ def plan_chart(obstacles, cells, markers, best, width: int, height: int, colour:
     # ---- obstacles -------------------------------------------------------------
     for o in obs:
         if o.kind in ("building", "prism"):
-            m = _poly_inside(o.xy, E, N)
+            m = points_in_polygon(o.xy, E, N)
             if not m.any():  # smaller than a cell: still show it
                 r, c = geo.cell(*centroid(o.xy))
                 put_cells(np.atleast_1d(r), np.atleast_1d(c), BUILDING, st("building"))
@@ -383,7 +360,7 @@ def _ramp_top(cl, markers, best) -> float:
     fr_all += [float(mk["blocked_fraction"]) for mk in markers + ([best] if best else [])
                if mk.get("blocked_fraction") is not None]
     top_f = max(fr_all, default=0.0)
-    return min(1.0, max(0.05, _nice_ceil(top_f) if top_f > 0 else 0.05))
+    return min(1.0, max(0.05, nice_ceil(top_f) if top_f > 0 else 0.05))
 
 
 def _legend(obs, cl, markers, keys, best, selected, vmax, width: int, height: int) -> list[list[list]]:

@@ -34,6 +34,8 @@ import math
 import numpy as np
 from rich.text import Text
 
+from survey.api import cone_edge, pct
+
 from .drawing import (
     BLUE,
     BRAILLE_BITS,
@@ -152,17 +154,6 @@ def _circle_dots(cx, cy, r, dash=None):
     x = cx + r * np.sin(t)
     y = cy - r * np.cos(t)
     return np.floor(x).astype(np.int64), np.floor(y).astype(np.int64)
-
-
-def _cone_edge(az0_deg, el0_deg, half_deg, n=721):
-    """Az/el (deg) round a cone of half-angle ``half_deg`` about a boresight
-    (spherical destination-point formula, as render.py's FOV outline)."""
-    lat1, lon1, d = math.radians(el0_deg), math.radians(az0_deg), math.radians(half_deg)
-    th = np.linspace(0.0, 2.0 * math.pi, n)
-    sin_lat2 = np.sin(lat1) * np.cos(d) + np.cos(lat1) * np.sin(d) * np.cos(th)
-    lat2 = np.arcsin(np.clip(sin_lat2, -1.0, 1.0))
-    lon2 = lon1 + np.arctan2(np.sin(th) * np.sin(d) * np.cos(lat1), np.cos(d) - np.sin(lat1) * sin_lat2)
-    return np.degrees(lon2) % 360.0, np.degrees(lat2)
 
 
 def _legend_entries(me, has_mask, fov, share_clear, share_blocked):
@@ -356,7 +347,7 @@ def sky_chart_from(az_deg, el_deg, blocked, mask_az_deg, mask_el_deg, min_elevat
 
     if fov is not None:
         b_az, b_el, half = (float(v) for v in fov)
-        e_az, e_el = _cone_edge(b_az, b_el, half)
+        e_az, e_el = cone_edge(b_az, b_el, half)
         vis = e_el >= 0.0
         rr = R * (90.0 - np.clip(e_el[vis], 0.0, 90.0)) / 90.0
         fx = cx + rr * np.sin(np.radians(e_az[vis]))
@@ -400,8 +391,7 @@ def sky_chart_from(az_deg, el_deg, blocked, mask_az_deg, mask_el_deg, min_elevat
     def share(t):
         if total <= 0:
             return ""
-        p = 100.0 * t / total
-        return f" {p:.1f}%" if 0 < p < 10 or 90 < p < 100 else f" {p:.0f}%"
+        return " " + pct(t / total).replace("\u00a0", " ")  # the one percentage format (words.pct)
 
     entries = _legend_entries(me, has_mask, fov, share(t_clear), share(t_block))
     if lay.legend == "side":
