@@ -11,7 +11,7 @@ from datetime import datetime
 
 import numpy as np
 
-from .horizon import HorizonMask
+from .horizon import HorizonMask, HorizonProfile
 from .magnetic import Declination, declination
 from .site import Site
 from .window import window_start
@@ -32,13 +32,20 @@ def site_mask(site: Site, when: datetime | None = None, now: datetime | None = N
     return dec, true_mask(site, dec)
 
 
+def measured_mask(profile: HorizonProfile, declination_deg: float | None) -> HorizonMask:
+    """The mask of measured points as typed: compass bearings turned to true with
+    the declination (None: not known yet, taken as 0), straight lines between
+    them.  The text UI's horizon preview draws this same mask."""
+    return profile.to_true(declination_deg or 0.0).mask()
+
+
 def true_mask(site: Site, dec: Declination) -> HorizonMask:
     """The mask the antenna sees, in true azimuths (compass bearings rotated): the
     measured horizon as-is at the survey point, or, with ``mount.at``, the horizon
     derived there (``derived_mask``)."""
     if site.mount.at is not None:
         return derived_mask(site, dec.declination_deg)
-    return site.horizon.to_true(dec.declination_deg).mask()
+    return measured_mask(site.horizon, dec.declination_deg)
 
 
 def derived_mask(site: Site, declination_deg: float) -> HorizonMask:

@@ -418,7 +418,7 @@ def _base_reads_same(site: Site, base: dict, name: str, path: Path) -> bool:
 
 def site_toml(site: Site, base: dict | None = None, preamble: str = "", *, path: str | Path | None = None,
               layout: Layout | None = None) -> str:
-    """TOML 1.0 text of ``site`` (tables in the DESIGN order).
+    """TOML 1.0 text of ``site`` (tables in the README's order, TABLE_ORDER).
 
     ``base`` is the original file's parsed document: its plan, window, criteria
     and schedule tables are kept as written while they read as the site's

@@ -548,9 +548,3 @@ class LeositeApp(App):
                                 lambda: self.rank_spots(0.0))
         yield SystemCommand("Day/night colours", "Light theme for sunlight, dark for indoors (ctrl+t)",
                             self.action_toggle_daylight)
-
-
-def run_ui(site_path=None, assessor: Assessor | None = None) -> int:
-    LeositeApp(site_path, assessor).run()
-    return 0
-

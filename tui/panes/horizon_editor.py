@@ -18,7 +18,7 @@ from textual.containers import Horizontal, Vertical
 from textual.message import Message
 from textual.widgets import DataTable, Input, Label, Static
 
-from survey.api import HorizonMask, HorizonPoint, HorizonProfile, Problems, parse_point
+from survey.api import HorizonPoint, HorizonProfile, Problems, measured_mask, parse_point
 
 from ..widgets.phrases import Phrases
 from ..widgets.profile import HorizonProfile as ProfilePreview
@@ -192,7 +192,7 @@ class HorizonEditor(Vertical):
     def _refresh_preview(self) -> None:
         preview = self.query_one("#profile", ProfilePreview)
         trues = self.true_points()
-        mask = HorizonMask.from_points(trues)
+        mask = measured_mask(self.profile, self.declination_deg)  # the engine's own mask of these points
         table = self.query_one("#points", DataTable)
         cursor_az = trues[table.cursor_row].azimuth_deg if trues and 0 <= table.cursor_row < len(trues) else None
         preview.show(mask, trues, min_elevation_deg=self.min_elevation_deg, cursor_az=cursor_az)
