@@ -37,9 +37,10 @@ from .site import MOUNT_KINDS, Mount, Schedule, Site, Terminal, load_site, parse
 from .sitefile import save_site
 from .spots import horizon_at, rank_spots
 from .window import WindowSpec, resolve_window, window_start
-from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, pct, utc
+from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, length_number, pct, utc
 
 __all__ = [
+    "length_number",
     "measured_mask",
     "cone_edge", "nice_ceil", "nice_floor", "points_in_polygon",
     "add_run_options", "azimuth", "azimuth_span", "bundled_demo", "centroid", "check_run_args", "Command",

@@ -4,7 +4,8 @@ report, the command line and the text UI.
 A number and its unit are joined by a no-break space (U+00A0), so a line or a
 table cell never breaks between them ("5.1 %" stays on one line).  One
 precision per kind of value: percentages to one decimal unless a caller asks
-for more, azimuths and elevations to 0.1 degree, lengths to 0.1 m.
+for more, azimuths and elevations to 0.1 degree, lengths to the centimetre
+("9.0 m", "2.25 m": pole heights come in 0.25 m steps).
 """
 
 from __future__ import annotations
@@ -34,9 +35,16 @@ def azimuth_span(from_deg: float, to_deg: float) -> str:
     return f"{azimuth(from_deg)}–{azimuth(to_deg)}" if to_deg - from_deg < 360.0 else "all round"
 
 
+def length_number(metres: float) -> str:
+    """A length in metres as a number: to the centimetre, with one decimal at
+    least and no second decimal that is zero ("9.0", "6.5", "2.25")."""
+    text = f"{metres:.2f}"
+    return text[:-1] if text.endswith("0") else text
+
+
 def length(metres: float) -> str:
-    """A length in metres, 0.1 m."""
-    return f"{metres:.1f}{NBSP}m"
+    """A length with its unit ("9.0 m", "2.25 m"): see length_number."""
+    return f"{length_number(metres)}{NBSP}m"
 
 
 def duration(seconds: float) -> str:

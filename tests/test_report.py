@@ -280,7 +280,7 @@ def test_the_spot_section_says_what_the_ranking_says(runs):
     _, text = _pdf_text(render_report(run, "pdf", generated=WHEN))
     flat = " ".join(text.split())
     b = ranking.best
-    assert f"Best spot: {b.candidate.name} at {b.candidate.height_m:.1f} m" in flat
+    assert f"Best spot: {b.candidate.name} at {b.candidate.height_m:.1f} m" in flat  # 9 m: "9.0 m"
     assert f"to {100 * b.blocked_fraction:.1f} %" in flat
     assert "as the trees grow" in flat  # the demo's alders have growth rates
 
@@ -426,4 +426,13 @@ def test_a_number_never_parts_from_its_unit(runs):
             assert re.fullmatch(r"\d{1,3}\.\d°", row["true"]) and re.fullmatch(r"\d{1,3}\.\d°", row["measured"])
         if model["spots"]:
             for row in model["spots"]["rows"]:
-                assert re.fullmatch(r"\d+\.\d\u00a0m", row["height"]), row["height"]
+                assert re.fullmatch(r"\d+\.\d{1,2}\u00a0m", row["height"]), row["height"]
+
+
+def test_one_way_to_write_a_length():
+    """words.length: to the centimetre (pole heights come in 0.25 m steps), one
+    decimal at least, a no-break space before the unit."""
+    from survey.words import length
+
+    assert [length(x) for x in (9, 6.5, 2.25, 12.0, 0.1, -1.1)] == [
+        "9.0\u00a0m", "6.5\u00a0m", "2.25\u00a0m", "12.0\u00a0m", "0.1\u00a0m", "-1.1\u00a0m"]

@@ -10,7 +10,7 @@ from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.message import Message
 from textual.widgets import DataTable, Static
 
-from survey.api import pct, pole_text, spot_note
+from survey.api import length_number, pct, pole_text, spot_note
 
 from ..widgets.phrases import Phrases
 from ..widgets.planchart import PlanChart
@@ -93,8 +93,8 @@ class SpotsView(Vertical):
         self.rows = ranking.best_of_each()
         for r in self.rows:
             c = r.candidate
-            table.add_row(Text(c.name), pct(r.blocked_fraction), f"{c.height_m:.2f}", pct(r.interruption),
-                          c.kind, f"{c.east_m:.1f}", f"{c.north_m:.1f}")
+            table.add_row(Text(c.name), pct(r.blocked_fraction), length_number(c.height_m), pct(r.interruption),
+                          c.kind, length_number(c.east_m), length_number(c.north_m))
         sp = ranking.survey_point
         notes = [f"Survey point ({sp['height_m']:g} m, measured horizon): blocked {pct(sp['blocked_fraction'])}."]
         notes += [f"Pole {pole_text(p)}" for p in ranking.poles]
