@@ -22,7 +22,7 @@ from .pipeline import FleetChoice, SiteRun, mount_text, result_dict, run_site
 from .report import format_for, load_report_inputs, write_report
 from .safety import short_note, spot_note
 from .site import load_site, parse_time
-from .words import NBSP, azimuth_span, duration, elevation, length, pct
+from .words import NBSP, azimuth_span, duration, elevation, length, length_number, pct
 
 
 class _Parser(argparse.ArgumentParser):
@@ -332,7 +332,8 @@ def format_spots(run: SiteRun, ranking) -> str:
     for r in best_of_each:
         c = r.candidate
         name = c.name if len(c.name) <= 22 else c.name[:21] + "…"
-        lines.append(f"    {name:<22} {c.kind:<5} {c.east_m:7.1f} {c.north_m:7.1f} {c.height_m:8.1f} "
+        e, n, h = (length_number(v) for v in (c.east_m, c.north_m, c.height_m))
+        lines.append(f"    {name:<22} {c.kind:<5} {e:>7} {n:>7} {h:>8} "
                      f"{pct(r.blocked_fraction, 2):>9} {pct(r.interruption, 2):>9}")
     if ranking.poles:
         lines += ["", f"  poles: lowest height with blocked at most {pct(ranking.target_blocked, 2)}"]
