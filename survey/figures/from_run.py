@@ -90,8 +90,8 @@ def derived_horizon_png(site, derived: dict, size=PANO_SIZE) -> bytes:
 def outage_timeline_for_run(run, size=None) -> Image.Image:
     """:func:`outage_timeline` of an assessed site (a ``pipeline.SiteRun``)."""
     s, w = run.site, run.window
-    sub = (_window_text(w) + "; down = the assigned satellite is blocked "
-           f"(reassigned every {s.schedule.reassign_s:g} s)")
+    sub = (_window_text(w) + "; down = the assigned satellite blocked, or none usable "
+           f"(scheduling period {s.schedule.reassign_s:g} s)")
     return outage_timeline(start=w.start, hours=w.hours, step_s=w.step_s,
                            down=run.assessment.down, title=f"{s.name}: drop-outs",
                            subtitle=sub, size=size)
