@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
+import os
 import sys
 import textwrap
 import time
@@ -22,6 +24,7 @@ from .pipeline import FleetChoice, SiteRun, mount_text, result_dict, run_site
 from .report import format_for, load_report_inputs, write_report
 from .safety import short_note, spot_note
 from .site import load_site, parse_time
+from .window import MAX_HOURS
 from .words import NBSP, azimuth_span, duration, elevation, length, length_number, pct
 
 
@@ -130,11 +133,11 @@ def _check_plot(args, problems: Problems) -> None:
 
 def check_run_args(args) -> None:
     problems = Problems("command line")
-    if args.hours is not None and not args.hours > 0:
-        problems.add("--hours", f"must be greater than 0, got {args.hours:g}")
-    if args.step is not None and not args.step > 0:
-        problems.add("--step", f"must be greater than 0, got {args.step:g}")
-    if args.min_elevation is not None and not 0 <= args.min_elevation <= 90:
+    if args.hours is not None and not (math.isfinite(args.hours) and 0 < args.hours <= MAX_HOURS):
+        problems.add("--hours", f"expected more than 0 and at most {MAX_HOURS:g} hours (a year), got {args.hours:g}")
+    if args.step is not None and not (math.isfinite(args.step) and args.step > 0):
+        problems.add("--step", f"must be a number of seconds greater than 0, got {args.step:g}")
+    if args.min_elevation is not None and not (math.isfinite(args.min_elevation) and 0 <= args.min_elevation <= 90):
         problems.add("--min-elevation", f"{args.min_elevation:g} is outside 0 to 90 degrees")
     if args.start is not None:
         args.start = parse_time(args.start, "--start", problems)
@@ -382,8 +385,20 @@ def cmd_spots(args) -> int:
 
 def main(argv=None, extra: tuple[Command, ...] = ()) -> int:
     """Run one command: the engine's own, or one of ``extra`` that a front end
-    adds (tui/launch.py adds ``ui``; the engine never imports the front end)."""
-    parser = build_parser(extra)
+    adds (tui/launch.py adds ``ui``; the engine never imports the front end).
+    A reader that closes the pipe early (``| head``) ends the run quietly, with
+    the status a shell gives a writer stopped by SIGPIPE (141)."""
+    try:
+        code = _dispatch(build_parser(extra), argv, extra)
+        sys.stdout.flush()
+        return code
+    except BrokenPipeError:
+        devnull = os.open(os.devnull, os.O_WRONLY)  # Python flushes stdout again at exit
+        os.dup2(devnull, sys.stdout.fileno())
+        return 141
+
+
+def _dispatch(parser, argv, extra) -> int:
     try:
         args = parser.parse_args(argv)
         for command in extra:

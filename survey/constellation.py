@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import csv
 import io
-import json
 import math
 from dataclasses import dataclass
 from datetime import datetime, timedelta, timezone
@@ -20,7 +19,7 @@ from pathlib import Path
 from sgp4.api import WGS72, Satrec
 
 from .errors import InputError, Problems
-from .fileio import parse_toml, read_text
+from .fileio import parse_json, parse_toml, read_text
 from .tables import Table
 
 MU_KM3_S2 = 398600.4418  # WGS84 Earth gravitational parameter (NIMA TR8350.2)
@@ -29,6 +28,7 @@ JD_1949_DEC_31 = 2433281.5  # SGP4's epoch origin (days since 1949 Dec 31 00:00 
 STALE_AFTER_DAYS = 14.0  # common practice: TLE accuracy degrades over days
 J2 = 1.08263e-3  # Earth's second zonal harmonic, WGS-84/EGM value (Vallado, Fundamentals of Astrodynamics, table D-1)
 TROPICAL_YEAR_S = 365.2421897 * 86400.0  # mean tropical year (the Sun's mean motion in right ascension)
+MAX_SATELLITES = 50_000  # in one fleet (README, "Limits"): several large shells, well under SGP4's numbering
 SUN_SYNCHRONOUS = "sun-synchronous"  # a shell file's inclination_deg may say this instead of a number
 
 
@@ -70,6 +70,7 @@ class Fleet:
     group: list[str]
     source: str
     illustrative: bool = False
+    dropped: tuple[str, ...] = ()  # element sets refused as impossible, each "where: why"
 
     def __len__(self) -> int:
         return len(self.satrecs)
@@ -125,6 +126,46 @@ def sun_synchronous_inclination_deg(altitude_km: float) -> float:
     if cos_i < -1.0:
         raise ValueError(f"no sun-synchronous orbit at {altitude_km:g} km (the node cannot precess fast enough)")
     return math.degrees(math.acos(cos_i))
+
+
+MIN_PERIGEE_KM = 0.0  # a perigee under the Earth's surface (WGS-84 equatorial radius) is not an orbit
+EPOCH_YEARS = (1957, 2100)  # element-set epochs outside these years are not a real satellite's
+
+
+def impossible(sat) -> str | None:
+    """Why an element set cannot be a satellite in orbit (so no verdict may rest
+    on it), or None: mean motion not a positive number, eccentricity outside
+    0 to 1, perigee under MIN_PERIGEE_KM, or an epoch outside EPOCH_YEARS."""
+    n_rad_min = sat.no_kozai
+    if not (math.isfinite(n_rad_min) and n_rad_min > 0):
+        return f"mean motion {n_rad_min * 1440 / (2 * math.pi):g} rev/day is not a positive number"
+    e = sat.ecco
+    if not (math.isfinite(e) and 0 <= e < 1):
+        return f"eccentricity {e:g} is outside 0 to 1 (not a closed orbit)"
+    a_km = (MU_KM3_S2 / (n_rad_min / 60.0) ** 2) ** (1.0 / 3.0)
+    perigee_km = a_km * (1.0 - e) - EARTH_RADIUS_KM
+    if perigee_km < MIN_PERIGEE_KM:
+        return f"perigee {perigee_km:,.0f} km is below the Earth's surface"
+    year = 2000.0 + (sat.jdsatepoch + sat.jdsatepochF - 2451545.0) / 365.25  # Julian years from J2000
+    if not (EPOCH_YEARS[0] <= year <= EPOCH_YEARS[1] + 1):
+        return f"epoch in the year {int(year)} is outside {EPOCH_YEARS[0]} to {EPOCH_YEARS[1]}"
+    return None
+
+
+def _keep_possible(satrecs: list, names: list, where_of: list[str], where: str) -> tuple[list, list, tuple[str, ...]]:
+    """The element sets that can be satellites, and a note for each dropped one;
+    none left is an InputError naming the file."""
+    keep_s, keep_n, dropped = [], [], []
+    for sat, name, at in zip(satrecs, names, where_of):
+        why = impossible(sat)
+        if why is None:
+            keep_s.append(sat)
+            keep_n.append(name)
+        else:
+            dropped.append(f"{at} ({name}): {why}")
+    if not keep_s:
+        raise InputError(f"{where}: no element set describes a satellite in orbit: " + "; ".join(dropped[:3]))
+    return keep_s, keep_n, tuple(dropped)
 
 
 def walker_fleet(shells: list[Shell], epoch: datetime, source: str, illustrative: bool = False) -> Fleet:
@@ -184,6 +225,10 @@ def parse_shells(text: str, where: str) -> list[Shell]:
         if None not in (alt, inc, planes, per):
             shells.append(Shell(name, alt, inc, planes, per, phasing))
     problems.raise_if_any()
+    total = sum(sh.total for sh in shells)
+    if total > MAX_SATELLITES:
+        raise InputError(f"{where}: shell: {total:,} satellites in all, more than the limit of {MAX_SATELLITES:,}: "
+                         "fewer planes or satellites per plane")
     return shells
 
 
@@ -208,8 +253,10 @@ def tle_checksum(line: str) -> int:
 def parse_tle(text: str, where: str) -> Fleet:
     """Two- or three-line element sets; every checksum is verified."""
     lines = [(n, ln.rstrip()) for n, ln in enumerate(text.splitlines(), start=1) if ln.strip()]
+    if len(lines) > 3 * MAX_SATELLITES:
+        raise InputError(f"{where}: {len(lines):,} lines: more element sets than the limit of {MAX_SATELLITES:,}")
     problems = Problems(where)
-    satrecs, names = [], []
+    satrecs, names, lines_of = [], [], []
     i = 0
     while i < len(lines):
         n, ln = lines[i]
@@ -246,10 +293,12 @@ def parse_tle(text: str, where: str) -> Fleet:
             continue
         satrecs.append(sat)
         names.append(name or l1[2:7].strip())
+        lines_of.append(f"line {n1}")
     problems.raise_if_any()
     if not satrecs:
         raise InputError(f"{where}: no element sets found")
-    return Fleet(satrecs, names, [Path(where).name] * len(satrecs), f"TLE file {Path(where).name}")
+    satrecs, names, dropped = _keep_possible(satrecs, names, lines_of, where)
+    return Fleet(satrecs, names, [Path(where).name] * len(satrecs), f"TLE file {Path(where).name}", dropped=dropped)
 
 
 _OMM_DEFAULTS = {
@@ -284,8 +333,10 @@ def _omm_epoch(text: str) -> str | None:
 
 def parse_omm_records(records, where: str) -> Fleet:
     """Element sets from OMM records (dicts of the CCSDS keyword names)."""
+    if len(records) > MAX_SATELLITES:
+        raise InputError(f"{where}: {len(records):,} records: more element sets than the limit of {MAX_SATELLITES:,}")
     problems = Problems(where)
-    satrecs, names = [], []
+    satrecs, names, records_of = [], [], []
     for i, rec in enumerate(records):
         fields = {k.strip().upper(): (str(v).strip() if v is not None else "") for k, v in rec.items() if k}
         missing = [k for k in _OMM_REQUIRED if not fields.get(k)]
@@ -311,10 +362,12 @@ def parse_omm_records(records, where: str) -> Fleet:
             continue
         satrecs.append(sat)
         names.append(fields.get("OBJECT_NAME") or fields["NORAD_CAT_ID"])
+        records_of.append(f"record {i + 1}")
     problems.raise_if_any()
     if not satrecs:
         raise InputError(f"{where}: no element sets found")
-    return Fleet(satrecs, names, [Path(where).name] * len(satrecs), f"OMM file {Path(where).name}")
+    satrecs, names, dropped = _keep_possible(satrecs, names, records_of, where)
+    return Fleet(satrecs, names, [Path(where).name] * len(satrecs), f"OMM file {Path(where).name}", dropped=dropped)
 
 
 def load_elements(path: str | Path) -> Fleet:
@@ -346,10 +399,7 @@ def parse_elements(text: str, where: str) -> Fleet:
             records.append(rec)
         return parse_omm_records(records, where)
     if head.startswith("[") or head.startswith("{"):
-        try:
-            doc = json.loads(text)
-        except json.JSONDecodeError as exc:
-            raise InputError(f"{where}: line {exc.lineno}: not valid OMM JSON: {exc.msg}") from None
+        doc = parse_json(text, where, "OMM JSON")
         records = doc if isinstance(doc, list) else [doc]
         if not all(isinstance(r, dict) for r in records):
             raise InputError(f"{where}: OMM JSON must be an object or a list of objects")

@@ -76,3 +76,22 @@ def parse_toml(text: str, where: str) -> dict:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{where}: not valid TOML: {exc}") from None
+    except RecursionError:
+        raise InputError(f"{where}: not valid here: arrays or tables nested too deeply") from None
+    except ValueError as exc:  # e.g. an integer of more digits than Python converts
+        raise InputError(f"{where}: not valid TOML: {exc}") from None
+
+
+def parse_json(text: str, where: str, what: str = "JSON") -> object:
+    """JSON text as Python values; a syntax error, nesting too deep or a number too
+    long to read is one InputError line naming ``where`` (and the line)."""
+    import json
+
+    try:
+        return json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise InputError(f"{where}: line {exc.lineno}: not valid {what}: {exc.msg}") from None
+    except RecursionError:
+        raise InputError(f"{where}: not valid here: {what} nested too deeply") from None
+    except ValueError as exc:
+        raise InputError(f"{where}: not valid {what}: {exc}") from None

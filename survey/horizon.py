@@ -214,18 +214,27 @@ def read_horizon_csv(path: str | Path) -> tuple[HorizonPoint, ...]:
     if not lines:
         raise InputError(f"{path}: empty: expected a header azimuth_deg,elevation_deg")
     header_line, header = lines[0]
-    cols = [c.strip() for c in next(csv.reader([header]))]
+    try:
+        cols = [c.strip() for c in next(csv.reader([header]))]
+    except csv.Error as exc:
+        raise InputError(f"{path}: line {header_line}: not a CSV header: {exc}") from None
     known = {"azimuth_deg", "elevation_deg", "distance_m", "label"}
     for c in cols:
         if c not in known:
             problems.add(f"line {header_line}", f"unknown column {c!r} (expected {', '.join(sorted(known))})")
+    for c in sorted({c for c in cols if cols.count(c) > 1}):
+        problems.add(f"line {header_line}", f"column {c!r} appears more than once")
     for need in ("azimuth_deg", "elevation_deg"):
         if need not in cols:
             problems.add(f"line {header_line}", f"missing column {need!r}")
     problems.raise_if_any()
     points = []
     for n, body in lines[1:]:
-        row = next(csv.reader(io.StringIO(body)))
+        try:
+            row = next(csv.reader(io.StringIO(body)))
+        except csv.Error as exc:  # e.g. a field over the csv module's size limit
+            problems.add(f"line {n}", f"not a CSV row: {exc}")
+            continue
         where = f"line {n}"
         if len(row) != len(cols):
             problems.add(where, f"expected {len(cols)} values ({','.join(cols)}), got {len(row)}")

@@ -11,6 +11,7 @@ from pathlib import Path
 
 from .assess import Assessment
 from .constellation import Fleet, default_fleet, parse_elements, shells_fleet
+from .errors import InputError
 from .evaluate import Evaluator
 from .fileio import read_text
 from .horizon import HorizonMask
@@ -20,6 +21,8 @@ from .site import Site
 from .tracks import Observer, SkyTracks, compute_tracks
 from .window import WindowSpec, resolve_window
 from .words import length
+
+MAX_SAMPLE_SATELLITES = 250_000_000  # sample times x satellites in one run (README, "Limits"): bounds time and memory
 
 
 @dataclass(frozen=True)
@@ -140,6 +143,10 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
     if fleet is None:
         fleet = FleetChoice(embedded=source).load(window.start)
     dec, mask = site_mask(site, window.start)
+    work = window.count * len(fleet)
+    if tracks is None and work > MAX_SAMPLE_SATELLITES:
+        raise InputError(f"window x fleet: {window.count:,} sample times x {len(fleet):,} satellites = {work:,}, more "
+                         f"than the limit of {MAX_SAMPLE_SATELLITES:,}: use a coarser --step or a shorter --hours")
     if tracks is None:
         tracks = compute_tracks(fleet, observer, window, site.terminal, progress=progress)
         if cache is not None:
@@ -155,6 +162,9 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
     if fleet.illustrative:
         notes.append("satellites are leosite's illustrative shells, not a real constellation: "
                      "use real element sets (TLE or OMM: --tle, or Load satellites in the text UI)")
+    if fleet.dropped:
+        notes.append(f"{len(fleet.dropped)} element sets left out as impossible (not a satellite in orbit): "
+                     + "; ".join(fleet.dropped[:5]) + ("; ..." if len(fleet.dropped) > 5 else ""))
     notes.extend(fleet.age_warnings(window.start))
     if site.horizon.reference == "magnetic":  # the declination only matters for compass bearings
         notes.extend(dec.warnings)

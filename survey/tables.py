@@ -13,7 +13,11 @@ from .errors import Problems
 def is_number(x) -> bool:
     """A finite int or float that is not a bool: how a raw value read from a file
     (TOML, CSV, GeoJSON) passes as a number before its range is checked."""
-    return isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
+    if isinstance(x, bool) or not isinstance(x, (int, float)):
+        return False
+    if isinstance(x, int):
+        return abs(x) < 10**300  # a 400-digit integer is not a measurement (and overflows a float)
+    return math.isfinite(x)
 
 
 class Table:
@@ -45,7 +49,7 @@ class Table:
             return default
         field = f"{self.name}.{key}"
         kinds = int if integer else (int, float)
-        if isinstance(v, bool) or not isinstance(v, kinds) or not math.isfinite(v):
+        if not is_number(v) or not isinstance(v, kinds):
             self.problems.add(field, f"expected {'a whole number' if integer else 'a number'}, got {v!r}")
             return default
         if lo is not None and v < lo or hi is not None and v > hi:

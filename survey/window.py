@@ -11,13 +11,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from datetime import datetime, timezone
+from datetime import datetime, timedelta, timezone
 
 from .errors import InputError
 
 DEFAULT_HOURS = 24.0
 DEFAULT_STEP_S = 15.0
 MAX_SAMPLES = 2_000_000  # sample times per satellite
+MAX_HOURS = 24.0 * 366  # a window of at most a year (README, "Limits")
+LAST_YEAR = 9998  # a window must end before the calendar does
 
 
 @dataclass(frozen=True)
@@ -46,12 +48,24 @@ def window_start(site, start: datetime | None = None, now: datetime | None = Non
 
 def resolve_window(site, start: datetime | None = None, hours: float | None = None,
                    step_s: float | None = None, now: datetime | None = None) -> WindowSpec:
-    """The window to assess, each value by the rule above."""
+    """The window to assess, each value by the rule above, checked against the
+    limits (README, "Limits")."""
     spec = WindowSpec(
         window_start(site, start, now),
         hours if hours is not None else site.window.get("hours", DEFAULT_HOURS),
         step_s if step_s is not None else site.window.get("step_s", DEFAULT_STEP_S),
     )
+    if not (math.isfinite(spec.hours) and 0 < spec.hours <= MAX_HOURS):
+        raise InputError(f"window: {spec.hours:g} h is outside 0 to {MAX_HOURS:g} h (a year): "
+                         "assess a shorter window")
+    if not (math.isfinite(spec.step_s) and spec.step_s > 0):
+        raise InputError(f"window: step {spec.step_s:g} s must be a number of seconds greater than 0")
+    try:
+        ends = spec.start + timedelta(hours=spec.hours)
+    except OverflowError:
+        ends = datetime.max.replace(tzinfo=timezone.utc)
+    if ends.year > LAST_YEAR:
+        raise InputError(f"window: {spec.start:%Y-%m-%d} plus {spec.hours:g} h ends after the year {LAST_YEAR}")
     if spec.count < 1:
         raise InputError(f"window: {spec.hours} h at {spec.step_s} s steps holds no sample")
     if spec.count > MAX_SAMPLES:

@@ -141,8 +141,16 @@ def test_bad_shell_file(write_site, capsys, tmp_path):
 
 
 @pytest.mark.parametrize("args,fragment", [
-    (["--hours", "0"], "--hours: must be greater than 0"),
-    (["--step", "-15"], "--step: must be greater than 0"),
+    (["--hours", "0"], "--hours: expected more than 0 and at most 8784 hours"),
+    (["--hours", "inf"], "--hours: expected more than 0 and at most 8784 hours"),
+    (["--hours", "1e308"], "--hours: expected more than 0 and at most 8784 hours"),
+    (["--hours", "87600", "--step", "160"], "--hours: expected more than 0 and at most 8784 hours"),
+    (["--hours", "nan"], "--hours: expected more than 0"),
+    (["--step", "-15"], "--step: must be a number of seconds greater than 0"),
+    (["--step", "inf"], "--step: must be a number of seconds greater than 0"),
+    (["--min-elevation", "nan"], "--min-elevation: nan is outside 0 to 90"),
+    (["--start", "9999-12-31T00:00:00Z"], "ends after the year 9998"),
+    (["--hours", "8000", "--step", "15"], "more than the limit of 250,000,000: use a coarser --step"),
     (["--min-elevation", "91"], "--min-elevation: 91 is outside 0 to 90"),
     (["--start", "yesterday"], "--start: expected an ISO 8601 UTC time"),
     (["--tle", "/no/such.tle"], "--tle: /no/such.tle: file not found"),

@@ -4,13 +4,12 @@ form is (entries.py)."""
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import numpy as np
 
 from ..errors import InputError, Problems
-from ..fileio import read_text
+from ..fileio import parse_json, read_text
 from ..tables import Table
 from .entries import GEOMETRY_KEY, KEYS, KINDS, _collect, _line, _make, _position, _positions, _ridge, _ring
 from .geodesy import lonlat_to_local
@@ -29,10 +28,7 @@ def load_plan_geojson(path: str | Path, origin_lat_deg: float, origin_lon_deg: f
     Other properties are ignored (RFC 7946 allows foreign members)."""
     path = Path(path)
     text = read_text(path, "plan file")
-    try:
-        doc = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise InputError(f"{path}: line {exc.lineno}: not valid JSON: {exc.msg}") from None
+    doc = parse_json(text, str(path))
     problems = Problems(str(path))
     if isinstance(doc, dict) and doc.get("type") == "Feature":
         features = [doc]

@@ -11,7 +11,7 @@ from datetime import datetime
 from pathlib import Path
 
 from ..errors import InputError
-from ..fileio import read_text
+from ..fileio import parse_json, read_text
 from ..pipeline import FleetChoice, SiteRun, mount_dict
 from ..plan import plan_tables
 from ..site import Site, site_from_dict
@@ -74,16 +74,16 @@ class SavedReport:
 def load_report_inputs(path: str | Path) -> SavedReport:
     """Read a report JSON's inputs (to make the report again)."""
     path = Path(path)
-    try:
-        doc = json.loads(read_text(path, "report file"))
-    except json.JSONDecodeError as exc:
-        raise InputError(f"{path}: line {exc.lineno}: not valid JSON: {exc.msg}") from None
-    if not isinstance(doc, dict) or doc.get("report", {}).get("kind") != REPORT_KIND:
+    doc = parse_json(read_text(path, "report file"), str(path))
+    report = doc.get("report") if isinstance(doc, dict) else None
+    if not isinstance(report, dict) or report.get("kind") != REPORT_KIND:
         raise InputError(f"{path}: report.kind: not a leosite site report (expected {REPORT_KIND!r})")
     inputs = doc.get("inputs")
     if not isinstance(inputs, dict) or not isinstance(inputs.get("site"), dict):
         raise InputError(f"{path}: inputs.site: missing")
     fleet = inputs.get("fleet") or {}
+    if not isinstance(fleet, dict):
+        raise InputError(f"{path}: inputs.fleet: expected an object")
     kind = fleet.get("kind", "default")
     if kind not in ("default", "shells", "elements"):
         raise InputError(f"{path}: inputs.fleet.kind: {kind!r} is not one of: default, shells, elements")
