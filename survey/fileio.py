@@ -10,10 +10,14 @@ from .errors import InputError
 
 def atomic_write_bytes(path: str | os.PathLike, data: bytes) -> None:
     """Write ``data`` to ``path`` via a temp file in the same folder and a rename,
-    so a crash or a full disk never leaves a truncated file behind."""
+    so a crash or a full disk never leaves a truncated file behind.  A symbolic
+    link is written through: its target is replaced (atomically, in the target's
+    folder) and the link stays a link.  The folder is synced after the rename, so
+    the new name survives a power cut too."""
     import tempfile  # only writers need it; keeps start-up short for reads
 
-    path = Path(path)
+    given = Path(path)
+    path = Path(os.path.realpath(given)) if given.is_symlink() else given
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise InputError(f"{path}: folder {folder} does not exist")
@@ -36,6 +40,7 @@ def atomic_write_bytes(path: str | os.PathLike, data: bytes) -> None:
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, path)
+        _sync_folder(folder)
     except BaseException as exc:
         try:
             os.unlink(tmp)
@@ -44,6 +49,21 @@ def atomic_write_bytes(path: str | os.PathLike, data: bytes) -> None:
         if isinstance(exc, OSError):
             raise InputError(f"{path}: cannot write: {exc.strerror or exc}") from None
         raise
+
+
+def _sync_folder(folder: Path) -> None:
+    """fsync a folder so a rename in it is on disk (POSIX; a no-op where folders
+    cannot be opened, as on Windows)."""
+    try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
 
 
 def atomic_write_text(path: str | os.PathLike, text: str) -> None:

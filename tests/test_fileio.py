@@ -48,3 +48,17 @@ def test_failure_mid_write_keeps_the_old_file(tmp_path, monkeypatch):
 def test_missing_folder_is_input_error(tmp_path):
     with pytest.raises(InputError):
         atomic_write_bytes(tmp_path / "no" / "x.png", b"x")
+
+
+def test_a_symbolic_link_is_written_through(tmp_path):
+    """--out through a link: the target gets the new bytes, the link stays a link."""
+    from survey.fileio import atomic_write_bytes
+
+    real = tmp_path / "reports" / "site.pdf"
+    real.parent.mkdir()
+    real.write_bytes(b"old")
+    link = tmp_path / "latest.pdf"
+    link.symlink_to(real)
+    atomic_write_bytes(link, b"new")
+    assert link.is_symlink() and real.read_bytes() == b"new" and link.read_bytes() == b"new"
+    assert sorted(p.name for p in real.parent.iterdir()) == ["site.pdf"]  # no temp file left behind
