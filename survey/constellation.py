@@ -283,6 +283,13 @@ def parse_tle(text: str, where: str) -> Fleet:
                 bad = True
         if bad:
             continue
+        try:
+            day = float(l1[20:32])
+        except ValueError:
+            day = -1.0
+        if not 1.0 <= day < 367.0:
+            problems.add(f"line {n1}", f"epoch day of year {l1[20:32].strip()!r} is outside 1 to 366")
+            continue
         if l1[2:7] != l2[2:7]:
             problems.add(f"line {n2}", f"catalogue number {l2[2:7].strip()} does not match line 1 ({l1[2:7].strip()})")
             continue

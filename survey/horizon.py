@@ -171,6 +171,9 @@ def _check_point(az, el, dist, label, where, problems: Problems) -> HorizonPoint
     if not is_number(az):
         problems.add(where, f"azimuth must be a number of degrees, got {az!r}")
         ok = False
+    elif not -360.0 <= az < 720.0:  # a bearing is taken modulo 360 only within one turn either side
+        problems.add(where, f"azimuth {az:g} is outside -360 to 720 degrees")
+        ok = False
     if not is_number(el):
         problems.add(where, f"elevation must be a number of degrees, got {el!r}")
         ok = False
@@ -230,6 +233,12 @@ def read_horizon_csv(path: str | Path) -> tuple[HorizonPoint, ...]:
     problems.raise_if_any()
     points = []
     for n, body in lines[1:]:
+        if "\x00" in body:
+            problems.add(f"line {n}", "holds a NUL character (not a text CSV line)")
+            continue
+        if body.count('"') % 2:
+            problems.add(f"line {n}", "a quote is opened and not closed")
+            continue
         try:
             row = next(csv.reader(io.StringIO(body)))
         except csv.Error as exc:  # e.g. a field over the csv module's size limit

@@ -20,6 +20,7 @@ from .plan import PLAN_RADIUS_M, Plan, plan_from_site_table
 from .tables import Table
 
 MOUNT_KINDS = ("fixed", "vehicle", "marine")
+MIN_REASSIGN_S, MAX_REASSIGN_S = 1.0, 86_400.0  # a scheduling period of 1 s to a day (README, "Limits")
 REFERENCES = ("true", "magnetic")
 
 
@@ -219,7 +220,7 @@ def site_from_dict(doc: dict, path: Path) -> Site:
             problems.add(f"criteria.marginal_max_{what}", f"must be at least criteria.qualified_max_{what}")
 
     sc = Table(doc.get("schedule", {}), "schedule", problems, ("reassign_s",))
-    schedule = Schedule(sc.number("reassign_s", Schedule().reassign_s, positive=True))
+    schedule = Schedule(sc.number("reassign_s", Schedule().reassign_s, MIN_REASSIGN_S, MAX_REASSIGN_S))
 
     sv = Table(doc.get("survey", {}), "survey", problems, ("surveyor", "organisation", "customer", "notes", "date"))
     survey = {k: sv.text(k) for k in ("surveyor", "organisation", "customer", "notes") if k in sv.data}

@@ -453,8 +453,8 @@ def horizon_csv(points, preamble: str = "", where: str = "horizon CSV") -> str:
     ``azimuth_deg,elevation_deg`` with ``distance_m`` and ``label`` columns when
     any point has one; labels quoted when they need it (a ``#``, the reader's
     comment mark, is quoted too).  The reader strips spaces round values, so
-    labels are written stripped; a label holding a line break cannot be written
-    (InputError)."""
+    labels are written stripped; a label holding a line break or a NUL cannot be
+    written (InputError)."""
     points = list(points)
     with_dist = any(p.distance_m is not None for p in points)
     with_label = any(p.label.strip() for p in points)
@@ -463,10 +463,11 @@ def horizon_csv(points, preamble: str = "", where: str = "horizon CSV") -> str:
     writer.writerow(["azimuth_deg", "elevation_deg"] + ["distance_m"] * with_dist + ["label"] * with_label)
     for i, p in enumerate(points):
         label = p.label.strip()
-        bad = next((c for c in label if _breaks_a_line(c)), None)
+        bad = next((c for c in label if _breaks_a_line(c) or c == "\x00"), None)
         if bad is not None:
+            what = "a NUL character" if bad == "\x00" else "a line break"
             raise InputError(f"{where}: horizon point {i + 1} ({p.azimuth_deg:g} deg): its label "
-                             f"{p.label!r} holds a line break (U+{ord(bad):04X}), which a horizon CSV "
+                             f"{p.label!r} holds {what} (U+{ord(bad):04X}), which a horizon CSV "
                              "cannot hold: change the label")
         row = [_csv_number(p.azimuth_deg), _csv_number(p.elevation_deg)]
         if with_dist:

@@ -191,3 +191,47 @@ def test_the_run_warns_of_what_was_left_out(tmp_path):
     (tmp_path / "site.toml").write_text(MINIMAL_SITE)
     run = run_site(load_site(tmp_path / "site.toml"), FleetChoice(elements=tmp_path / "f.json"), hours=1, step_s=60)
     assert any("1 element sets left out as impossible" in w and "record 1 (B)" in w for w in run.warnings)
+
+
+@pytest.mark.parametrize("points, fragment", [
+    ("[[720, 10]]", "azimuth 720 is outside -360 to 720 degrees"),
+    ("[[-1e308, 10]]", "is outside -360 to 720 degrees"),
+])
+def test_azimuths_beyond_one_turn_either_side_are_refused(write_site, points, fragment):
+    """README, "Limits": a bearing in -360 to 720 is taken modulo 360; beyond, refused."""
+    path = write_site(MINIMAL_SITE + f'\n[horizon]\nreference = "true"\npoints = {points}\n')
+    problems = only_our_error(load_site, path)
+    assert problems and any(fragment in p for p in problems), problems
+    ok = write_site(MINIMAL_SITE + '\n[horizon]\nreference = "true"\npoints = [[-10, 5], [370, 8]]\n', "ok.toml")
+    assert [p.azimuth_deg for p in load_site(ok).horizon.points] == [350.0, 10.0]
+
+
+@pytest.mark.parametrize("row, fragment", [
+    ('10,20,"oak\n', "a quote is opened and not closed"),
+    ("10,20,o\x00k\n", "holds a NUL character"),
+])
+def test_csv_rows_a_reader_cannot_trust_are_refused(tmp_path, row, fragment):
+    path = tmp_path / "h.csv"
+    path.write_text("azimuth_deg,elevation_deg,label\n" + row, encoding="utf-8")
+    problems = only_our_error(read_horizon_csv, path)
+    assert problems and any("line 2" in p and fragment in p for p in problems), problems
+
+
+@pytest.mark.parametrize("value, ok", [("1e-300", False), ("0.5", False), ("1", True), ("86400", True),
+                                       ("86401", False)])
+def test_scheduling_period_bounds(write_site, value, ok):
+    path = write_site(MINIMAL_SITE + f"\n[schedule]\nreassign_s = {value}\n")
+    problems = only_our_error(load_site, path)
+    assert (problems is None) == ok, problems
+    if not ok:
+        assert any("schedule.reassign_s" in p for p in problems)
+
+
+def test_tle_day_of_year_999_is_refused():
+    from survey.constellation import tle_checksum
+
+    l1 = "1 25544U 98067A   26999.50000000  .00016717  00000-0  10270-3 0  999"
+    l2 = "2 25544  51.6400 208.9163 0006317  69.9862  25.2906 15.49541234 1234"
+    text = l1 + str(tle_checksum(l1 + "0")) + "\n" + l2 + str(tle_checksum(l2 + "0")) + "\n"
+    problems = only_our_error(parse_elements, text, "x.tle")
+    assert problems and "line 1: epoch day of year '999.50000000' is outside 1 to 366" in problems[0]
