@@ -79,6 +79,41 @@ def site_observer(site: Site) -> Observer:
     return Observer(site.latitude_deg, site.longitude_deg, site.elevation_m + site.horizon_height_m)
 
 
+COARSE_STEP_S = 60.0  # common practice: drop-outs of a minute or less matter to a video call
+HORIZON_GAP_DEG = 60.0  # more than this between measured points is sky nobody looked at
+
+
+def window_warnings(window: WindowSpec, fleet: Fleet) -> list[str]:
+    """What a run says about a window that cannot show everything: a step too
+    coarse for short drop-outs, or a window shorter than one orbit."""
+    out = []
+    if window.step_s > COARSE_STEP_S:
+        out.append(f"sample step {window.step_s:g} s is coarser than {COARSE_STEP_S:g} s: drop-outs shorter than "
+                   "a step are not seen; use --step 15 for the drop-out figures")
+    motions = [sat.no_kozai for sat in fleet.satrecs if sat.no_kozai > 0]
+    if motions:
+        orbit_min = 2.0 * math.pi / min(motions)  # the slowest satellite's period, minutes
+        if window.hours * 60.0 < orbit_min:
+            out.append(f"window of {window.hours * 60:g} min is shorter than one orbit ({orbit_min:.0f} min): "
+                       "the figures depend on where the satellites happen to be; assess 24 h")
+    return out
+
+
+def horizon_warnings(site: Site) -> list[str]:
+    """Gaps of more than HORIZON_GAP_DEG between measured points (through north
+    too): sky nobody measured, taken as clear or as the straight line between."""
+    az = sorted(p.azimuth_deg % 360.0 for p in site.horizon.points)
+    if len(az) < 2:
+        return []
+    gaps = [(a, b, (b - a) % 360.0) for a, b in zip(az, az[1:] + az[:1])]
+    wide = [(a, b, g) for a, b, g in gaps if g > HORIZON_GAP_DEG]
+    if not wide:
+        return []
+    spans = ", ".join(f"{a:.0f}°–{b:.0f}° ({g:.0f}°)" for a, b, g in wide[:4])
+    return [f"no horizon point measured across {spans}: the mask there is a straight line between readings; "
+            "measure in those directions"]
+
+
 def mount_warnings(site: Site) -> list[str]:
     """What a run says about a mount placed on the plan (``mount.at``)."""
     if site.mount.at is None:
@@ -169,6 +204,9 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
     if site.horizon.reference == "magnetic":  # the declination only matters for compass bearings
         notes.extend(dec.warnings)
     notes.extend(mount_warnings(site))
+    notes.extend(window_warnings(window, fleet))
+    if site.mount.at is None and site.plan is None:
+        notes.extend(horizon_warnings(site))
     if site.mount.kind != "fixed":
         notes.append(f"mount kind '{site.mount.kind}': heading, roll and route are not modelled yet; "
                      "assessed as a fixed mount" + (" at the site point" if site.mount.at is None else ""))

@@ -165,3 +165,22 @@ def test_report_site_document_round_trips_the_placed_mount(farm):
     assert home.measured_height_m == 7.0 and home.horizon_height_m == 7.0
     assert "measured_height_m" not in site_document(home)["horizon"]
     assert "east_m" not in site_document(home)["mount"]
+
+
+def test_honest_warnings_for_a_window_and_a_horizon_that_cannot_show_everything(write_site):
+    """A step over 60 s (common practice), a window shorter than one orbit (the
+    embedded shells' slowest period, 2 pi / n: about 100 min at 745 km by
+    Kepler's third law), and more than 60 degrees between horizon readings."""
+    from survey.pipeline import run_site
+    from survey.site import load_site
+
+    site = load_site(write_site(MINIMAL_SITE + '\n[horizon]\nreference = "true"\npoints = [[10, 5], [100, 8], [150, 4]]\n'))
+    run = run_site(site, hours=1, step_s=120)
+    text = " | ".join(run.warnings)
+    assert "sample step 120 s is coarser than 60 s" in text
+    assert "window of 60 min is shorter than one orbit (100 min)" in text
+    assert "no horizon point measured across 10°–100° (90°), 150°–10° (220°)" in text
+    calm = run_site(load_site(write_site(MINIMAL_SITE + '\n[horizon]\nreference = "true"\npoints = '
+                                         '[[0, 5], [50, 5], [100, 5], [150, 5], [200, 5], [250, 5], [300, 5]]\n',
+                                         "calm.toml")), hours=3, step_s=30)
+    assert not any(w.startswith(("sample step", "window of", "no horizon point")) for w in calm.warnings)
