@@ -271,7 +271,7 @@ def cmd_report(args) -> int:
     else:
         site = load_site(args.site)
     run = _run(args, site, fleet_choice, quiet=False)
-    out = write_report(run, args.out, paper=args.paper, fleet_choice=fleet_choice)
+    out = write_report(run, args.out, paper=args.paper)
     a = run.assessment
     print(_for_terminal(f"{site.name}: {a.verdict}, blocked {pct(a.blocked_fraction, 2)}"))
     print(f"report written to {out}")

@@ -210,7 +210,7 @@ def test_json_from_an_element_file_carries_the_elements(tmp_path, write_site):
     run = run_site(load_site(site_file), choice, start=datetime(2008, 9, 20, tzinfo=timezone.utc), hours=3,
                    step_s=30)
     out = tmp_path / "r.json"
-    write_report(run, out, fleet_choice=choice, generated=WHEN)
+    write_report(run, out, generated=WHEN)  # the run carries the fleet file it read
     (tmp_path / "one.tle").unlink()  # the JSON must not need the original file
     saved = load_report_inputs(out)
     again = run_site(saved.site, saved.fleet_choice)

@@ -481,7 +481,7 @@ class LeositeApp(App):
     def _write_report(self, run, path: Path, paper: str, ranking=None) -> None:
         self.call_from_thread(self._status, state="writing the report…")
         try:
-            out = write_report(run, path, paper=paper, fleet_choice=self.assessor.fleet_choice, ranking=ranking)
+            out = write_report(run, path, paper=paper, ranking=ranking)
         except InputError as exc:
             self.call_from_thread(self.notify, exc.problems[0], title="Report not written", severity="error",
                                   timeout=10)

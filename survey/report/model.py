@@ -6,7 +6,7 @@ from __future__ import annotations
 from datetime import datetime, timezone
 
 from .. import __version__
-from ..pipeline import FleetChoice, SiteRun, mount_text, result_dict
+from ..pipeline import SiteRun, mount_text, result_dict
 from ..safety import notes_for
 from ..words import NBSP, azimuth, azimuth_span, coordinates, duration, elevation, length, pct, utc, window
 from .advice import recommendations
@@ -22,7 +22,7 @@ def _survey_day(text: str) -> str:
 
 
 
-def report_model(run: SiteRun, fleet_choice: FleetChoice = FleetChoice(),
+def report_model(run: SiteRun,
                  generated: datetime | None = None, ranking=None) -> dict:
     """Everything the report says, as plain values and ready-made text.  The JSON
     format is this model; the PDF and HTML lay it out."""

@@ -9,7 +9,7 @@ from pathlib import Path
 
 from ..errors import InputError
 from ..fileio import atomic_write_bytes
-from ..pipeline import FleetChoice, SiteRun
+from ..pipeline import SiteRun
 from .html import render_html
 from .model import FIGURE_CAPTIONS, report_model
 from .spots_section import spot_ranking
@@ -44,14 +44,14 @@ def format_for(path: str | Path) -> str:
     return ext
 
 
-def render_report(run: SiteRun, fmt: str, paper: str = "a4", fleet_choice: FleetChoice = FleetChoice(),
+def render_report(run: SiteRun, fmt: str, paper: str = "a4",
                   generated: datetime | None = None, ranking=None) -> bytes:
     """The report as file contents in ``fmt`` (pdf | html | json).  ``ranking``
     (spots.rank_spots of this run, such as the text UI's Spots tab holds) is used
     as it is; without one the plan's candidates are ranked here."""
     if ranking is None or getattr(ranking.evaluator, "run", None) is not run:
         ranking = spot_ranking(run)
-    model = report_model(run, fleet_choice, generated, ranking)
+    model = report_model(run, generated, ranking)
     if fmt == "json":
         return (json.dumps(_json_model(model), indent=2, ensure_ascii=False) + "\n").encode("utf-8")
     figures = report_figures(run, ranking)
@@ -78,7 +78,7 @@ def _json_model(model: dict) -> dict:
     }
 
 
-def write_report(run: SiteRun, out: str | Path, paper: str = "a4", fleet_choice: FleetChoice = FleetChoice(),
+def write_report(run: SiteRun, out: str | Path, paper: str = "a4",
                  generated: datetime | None = None, ranking=None) -> Path:
     """Write the report to ``out`` (format from its extension), atomically;
     ``ranking`` as for render_report."""
@@ -86,5 +86,5 @@ def write_report(run: SiteRun, out: str | Path, paper: str = "a4", fleet_choice:
     fmt = format_for(out)
     if paper not in PAPERS:
         raise InputError(f"--paper: {paper!r} is not one of: {', '.join(PAPERS)}")
-    atomic_write_bytes(out, render_report(run, fmt, paper, fleet_choice, generated, ranking))
+    atomic_write_bytes(out, render_report(run, fmt, paper, generated, ranking))
     return out
