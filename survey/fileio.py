@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import re
 from pathlib import Path
 
 from .errors import InputError
@@ -41,6 +42,7 @@ def atomic_write_bytes(path: str | os.PathLike, data: bytes) -> None:
             os.fsync(fh.fileno())
         os.replace(tmp, path)
         _sync_folder(folder)
+        _sweep_stale_temps(folder, path.name)
     except BaseException as exc:
         try:
             os.unlink(tmp)
@@ -49,6 +51,24 @@ def atomic_write_bytes(path: str | os.PathLike, data: bytes) -> None:
         if isinstance(exc, OSError):
             raise InputError(f"{path}: cannot write: {exc.strerror or exc}") from None
         raise
+
+
+STALE_TEMP_S = 600.0  # a temp file this old is left from a killed writer, not one at work
+
+
+def _sweep_stale_temps(folder: Path, name: str) -> None:
+    """Remove the temp files a killed writer of ``name`` left behind (SIGKILL
+    runs no cleanup); the file itself is whole either way."""
+    import glob
+    import time
+
+    now = time.time()
+    for stale in folder.glob(f".{glob.escape(name)}.*.tmp"):
+        try:
+            if now - stale.stat().st_mtime > STALE_TEMP_S:
+                stale.unlink()
+        except OSError:
+            pass
 
 
 def _sync_folder(folder: Path) -> None:
@@ -70,10 +90,18 @@ def atomic_write_text(path: str | os.PathLike, text: str) -> None:
     atomic_write_bytes(path, text.encode("utf-8"))
 
 
+MAX_FILE_BYTES = 64 * 2**20  # any one input file (README, "Limits"): a full catalogue's OMM is a third of it
+
+
 def read_text(path: str | os.PathLike, what: str = "file") -> str:
-    """Read a UTF-8 text file, turning OS and decoding failures into InputError."""
+    """Read a UTF-8 text file, turning OS and decoding failures into InputError.
+    A file over MAX_FILE_BYTES is refused before it is read."""
     path = Path(path)
     try:
+        size = path.stat().st_size
+        if size > MAX_FILE_BYTES:
+            raise InputError(f"{path}: {size / 2**20:,.0f} MB, more than the limit of {MAX_FILE_BYTES // 2**20} MB "
+                             f"for a {what}")
         raw = path.read_bytes()
     except FileNotFoundError:
         raise InputError(f"{path}: {what} not found") from None
@@ -102,13 +130,25 @@ def parse_toml(text: str, where: str) -> dict:
         raise InputError(f"{where}: not valid TOML: {exc}") from None
 
 
+# a high surrogate escape not followed by a low one, or a low one not after a high one
+_LONE_SURROGATE = re.compile(r"\\u[dD][89abAB][0-9a-fA-F]{2}(?!\\u[dD][c-fC-F][0-9a-fA-F]{2})"
+                             r"|(?<!\\u[dD][89abAB][0-9a-fA-F]{2})\\u[dD][c-fC-F][0-9a-fA-F]{2}")
+
+
 def parse_json(text: str, where: str, what: str = "JSON") -> object:
     """JSON text as Python values; a syntax error, nesting too deep or a number too
     long to read is one InputError line naming ``where`` (and the line)."""
     import json
 
     try:
-        return json.loads(text)
+        doc = json.loads(text)
+        json.dumps(doc, ensure_ascii=False).encode("utf-8")  # refuses a lone surrogate: not Unicode text
+        return doc
+    except UnicodeEncodeError:
+        m = _LONE_SURROGATE.search(text)
+        line = text.count("\n", 0, m.start()) + 1 if m else 1
+        raise InputError(f"{where}: line {line}: not valid {what}: an escape \\uD800-\\uDFFF that is not "
+                         "half of a pair (not a Unicode character)") from None
     except json.JSONDecodeError as exc:
         raise InputError(f"{where}: line {exc.lineno}: not valid {what}: {exc.msg}") from None
     except RecursionError:

@@ -14,6 +14,7 @@ from __future__ import annotations
 import csv
 import io
 import math
+import re
 import tomllib
 import unicodedata
 from dataclasses import dataclass, field, replace
@@ -35,6 +36,7 @@ _KEY_ORDER = {
     "horizon": ("reference", "measured_height_m", "points", "file"),
     "survey": ("surveyor", "organisation", "customer", "notes", "date"),
 }
+_REVISION = re.compile(r"^(?P<base>.*?)\.rev(?P<n>[0-9]+)$")  # horizon.rev3 (csv_revision_name)
 _EXACT_INT = 2.0 ** 53  # integral floats below this are written as whole numbers (read back exactly)
 
 
@@ -510,29 +512,85 @@ def _check_reads_back(site: Site, text: str, path: Path) -> None:
     site_from_dict(doc, path)
 
 
+def csv_revision_name(folder: Path, named: str) -> str:
+    """The file name the next revision of the horizon CSV ``named`` is saved
+    under, in the site file's ``folder``: ``horizon.csv`` -> ``horizon.rev1.csv``
+    -> ``horizon.rev2.csv`` (the next number not taken).  README, "Saving"."""
+    name = Path(named).name
+    stem = name[:-4] if name.lower().endswith(".csv") else name
+    m = _REVISION.match(stem)
+    base, n = (m["base"], int(m["n"])) if m else (stem, 0)
+    base = base or "horizon"
+    n += 1
+    while (folder / f"{base}.rev{n}.csv").exists():
+        n += 1
+    return f"{base}.rev{n}.csv"
+
+
+def _named_elsewhere(name: str, folder: Path, site_path: Path) -> bool:
+    """Whether another site file in ``folder`` mentions the file ``name`` (a copied
+    site file still pointing at the same revision)."""
+    for other in folder.glob("*.toml"):
+        if other.name == site_path.name:
+            continue
+        try:
+            if other.stat().st_size <= 4_000_000 and name in other.read_text("utf-8", errors="replace"):
+                return True
+        except OSError:
+            return True  # cannot tell: keep the file
+    return False
+
+
+def _remove_old_revision(old: Path, new_name: str, site_path: Path) -> None:
+    """After the site file names the new revision: remove the one it named before,
+    when it was a revision of ours (never the file the user first named), in the
+    same folder, and named by no other site file there."""
+    folder = site_path.parent
+    stem = old.name[:-4] if old.name.lower().endswith(".csv") else old.name
+    if old.name == new_name or not _REVISION.match(stem) or not old.name.lower().endswith(".csv"):
+        return
+    try:
+        if old.parent.resolve() != folder.resolve() or _named_elsewhere(old.name, folder, site_path):
+            return
+        old.unlink()
+    except OSError:
+        pass  # a stale revision left behind does no harm: the site file does not name it
+
+
 def save_site(site: Site, path: str | Path) -> list[Path]:
     """Write ``site`` to ``path`` (see ``site_toml``), keeping the existing file's
-    leading comments, its kept tables and its comments on unchanged keys; a
-    horizon kept in a CSV file is written to that file first (its leading
-    comments kept).  Both writes are atomic.  Returns the paths written.
-    Raises InputError (one line per problem) and then writes nothing new."""
+    leading comments, its kept tables and its comments on unchanged keys.
+
+    A horizon kept in a CSV file is saved as a new revision next to the site file
+    (``csv_revision_name``), written before the site file; the site file's rename
+    then switches to it in one step, so a crash at any point leaves the old pair
+    or the new pair, never a new CSV with an old site file.  An unchanged CSV is
+    not rewritten.  Nothing is written outside the site file's folder, whatever
+    path the site file gives.  Both writes are atomic.  Returns the paths
+    written.  Raises InputError (one line per problem) and then writes nothing."""
     path = Path(path)
     text = _read_existing(path, "site file")
     base = parse_toml(text, str(path)) if text is not None else None
     layout = read_layout(text) if text is not None else Layout()
-    toml_text = site_toml(site, base, layout.preamble, path=path, layout=layout)
-    _check_reads_back(site, toml_text, path)
     writes: list[tuple[Path, str]] = []
     hfile = ((base or {}).get("horizon") or {}).get("file")
+    old_csv = None
     if isinstance(hfile, str) and hfile:
-        csv_path = path.parent / hfile
-        old = _read_existing(csv_path, "horizon CSV")
-        old_pre = leading_comments(old) if old is not None else ""
+        old_csv = path.parent / hfile
+        old = _read_existing(old_csv, "horizon CSV")
         try:
-            writes.append((csv_path, horizon_csv(site.horizon.points, old_pre, str(csv_path))))
+            csv_text = horizon_csv(site.horizon.points, leading_comments(old) if old is not None else "", str(old_csv))
         except ValueError as exc:
-            raise InputError(f"{csv_path}: {exc}") from None
+            raise InputError(f"{old_csv}: {exc}") from None
+        if csv_text != old:
+            new_name = csv_revision_name(path.parent, hfile)
+            base = dict(base, horizon=dict(base["horizon"], file=new_name))
+            writes.append((path.parent / new_name, csv_text))
+    toml_text = site_toml(site, base, layout.preamble, path=path, layout=layout)
+    _check_reads_back(site, toml_text, path)
     writes.append((path, toml_text))
     for p, t in writes:
         atomic_write_text(p, t)
+    if old_csv is not None and len(writes) == 2:
+        _remove_old_revision(old_csv, writes[0][0].name, path)
     return [p for p, _ in writes]

@@ -102,12 +102,14 @@ def test_a_hard_label_round_trips_through_toml_and_csv(demo_copy):
     site = load_site(folder / "site.toml")
     site = replace(site, horizon=replace(site.horizon, points=site.horizon.points + (point,)))
     written = save_site(site, folder / "site.toml")
-    assert written == [folder / "horizon.csv", folder / "site.toml"]
-    text = (folder / "horizon.csv").read_text(encoding="utf-8")
+    original = (folder / "horizon.csv").read_bytes()
+    assert written == [folder / "horizon.rev1.csv", folder / "site.toml"]  # a new revision, then the switch
+    assert (folder / "horizon.csv").read_bytes() == original  # the file the user named is left as it was
+    text = (folder / "horizon.rev1.csv").read_text(encoding="utf-8")
     assert text.startswith("# Mill Lane terrace: measured from the eaves bracket")  # comments kept
     rows = list(csv.DictReader(io.StringIO("".join(ln for ln in text.splitlines(True) if not ln.startswith("#")))))
     assert rows[-1] == {"azimuth_deg": "301.5", "elevation_deg": "12.25", "distance_m": "14", "label": LABEL}
-    assert tomllib.loads((folder / "site.toml").read_text(encoding="utf-8"))["horizon"]["file"] == "horizon.csv"
+    assert tomllib.loads((folder / "site.toml").read_text(encoding="utf-8"))["horizon"]["file"] == "horizon.rev1.csv"
     assert bare(load_site(folder / "site.toml")) == bare(site)
 
 
@@ -128,7 +130,7 @@ def test_a_label_with_the_comment_mark_round_trips_through_the_csv(demo_copy):
     site = replace(site, horizon=replace(site.horizon, points=site.horizon.points
                                          + (HorizonPoint(10.0, 5.0, None, 'oak #2, "leaning"'),)))
     save_site(site, folder / "site.toml")
-    assert '10,5,,"oak #2, ""leaning"""' in (folder / "horizon.csv").read_text("utf-8")  # RFC 4180 quoting
+    assert '10,5,,"oak #2, ""leaning"""' in (folder / "horizon.rev1.csv").read_text("utf-8")  # RFC 4180 quoting
     assert load_site(folder / "site.toml").horizon.points[-1].label == 'oak #2, "leaning"'
 
 
@@ -278,3 +280,59 @@ def test_points_round_trip_through_the_csv(tmp_path_factory, rows):
     back = read_horizon_csv(path)
     # The reader strips spaces round every value, so labels come back stripped.
     assert back == tuple(replace(p, azimuth_deg=p.azimuth_deg % 360.0, label=p.label.strip()) for p in points)
+
+
+# ------------------------------------------------------------------ the site file and its CSV as one pair
+# README, "Saving": a CSV-kept horizon is saved as a new revision beside the site
+# file, and the site file's one rename switches to it.
+
+def _with_point(site: Site, az: float) -> Site:
+    return replace(site, horizon=replace(site.horizon, points=site.horizon.points + (HorizonPoint(az, 5.0),)))
+
+
+def test_each_save_makes_the_next_revision_and_removes_the_one_before(demo_copy):
+    folder = demo_copy("mill-lane-terrace")
+    site = load_site(folder / "site.toml")
+    save_site(_with_point(site, 1.0), folder / "site.toml")
+    save_site(_with_point(load_site(folder / "site.toml"), 2.0), folder / "site.toml")
+    csvs = sorted(p.name for p in folder.glob("*.csv"))
+    assert csvs == ["horizon.csv", "horizon.rev2.csv"]  # rev1 removed; the original kept as it was
+    doc = tomllib.loads((folder / "site.toml").read_text("utf-8"))
+    assert doc["horizon"]["file"] == "horizon.rev2.csv"
+    assert [p.azimuth_deg for p in load_site(folder / "site.toml").horizon.points[-2:]] == [1.0, 2.0]
+
+
+def test_an_unchanged_horizon_is_not_written_again(demo_copy):
+    folder = demo_copy("mill-lane-terrace")
+    site = load_site(folder / "site.toml")
+    written = save_site(replace(site, name="Renamed terrace"), folder / "site.toml")
+    assert written == [folder / "site.toml"]
+    assert tomllib.loads((folder / "site.toml").read_text("utf-8"))["horizon"]["file"] == "horizon.csv"
+
+
+def test_a_revision_another_site_file_names_is_kept(demo_copy):
+    folder = demo_copy("mill-lane-terrace")
+    save_site(_with_point(load_site(folder / "site.toml"), 1.0), folder / "site.toml")
+    shutil.copy(folder / "site.toml", folder / "copy.toml")  # both name horizon.rev1.csv
+    save_site(_with_point(load_site(folder / "site.toml"), 2.0), folder / "site.toml")
+    assert (folder / "horizon.rev1.csv").is_file()
+    assert load_site(folder / "copy.toml").horizon.points[-1].azimuth_deg == 1.0
+
+
+@pytest.mark.parametrize("named", ["../elsewhere/h.csv", "ABSOLUTE"])
+def test_a_path_in_the_site_file_never_makes_a_write_outside_its_folder(tmp_path, named):
+    site_folder, elsewhere = tmp_path / "site", tmp_path / "elsewhere"
+    site_folder.mkdir()
+    elsewhere.mkdir()
+    (elsewhere / "h.csv").write_text("azimuth_deg,elevation_deg\n10,20\n", encoding="utf-8")
+    named = str(elsewhere / "h.csv") if named == "ABSOLUTE" else named
+    (site_folder / "site.toml").write_text(
+        f'[site]\nname = "x"\nlatitude = 45.0\nlongitude = -73.0\n[mount]\nheight_m = 3\n'
+        f'[horizon]\nfile = {toml_string(named)}\n', encoding="utf-8")
+    before = {p: p.read_bytes() for p in tmp_path.rglob("*") if p.is_file()}
+    written = save_site(_with_point(load_site(site_folder / "site.toml"), 99.0), site_folder / "site.toml")
+    assert all(p.parent == site_folder for p in written)
+    assert written[0].name == "h.rev1.csv"
+    assert (elsewhere / "h.csv").read_bytes() == before[elsewhere / "h.csv"]
+    assert sorted(p.name for p in elsewhere.iterdir()) == ["h.csv"]
+    assert [p.azimuth_deg for p in load_site(site_folder / "site.toml").horizon.points] == [10.0, 99.0]

@@ -472,8 +472,9 @@ def test_a_horizon_kept_in_a_csv_is_saved_there(tmp_path):
             await pilot.press("ctrl+q")
 
     drive(scenario())
-    assert site_file.read_text("utf-8") == toml_before  # still file = "horizon.csv", nothing else changed
-    csv_text = (site_file.parent / "horizon.csv").read_text("utf-8")
+    # The CSV is saved as a new revision and the site file switched to it; nothing else changed.
+    assert site_file.read_text("utf-8") == toml_before.replace('file = "horizon.csv"', 'file = "horizon.rev1.csv"')
+    csv_text = (site_file.parent / "horizon.rev1.csv").read_text("utf-8")
     assert csv_text.startswith("# Mill Lane terrace")  # the file's own comments kept
     assert load_site(site_file).horizon.points[-1].label == "oak #2"
 
