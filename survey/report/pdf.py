@@ -2,7 +2,9 @@
 
 Text is set in the PDF core fonts (Helvetica), so it is real text: searchable,
 copyable, and small.  Core fonts carry Latin-1 only, so a few typographic
-characters are written in plain equivalents (see ``_latin1``).  Figures are
+characters are written in plain equivalents, accented letters outside Latin-1
+as their base letter, and anything else (another script, a control character)
+as "?", with a line under the header saying how many (see ``_latin1``).  Figures are
 the engine's Pillow images at print resolution (about 300 dpi at their printed
 width), embedded as indexed (256-colour) PNG: exact for drawings with at most
 256 colours, an adaptive palette without dithering for the density shading, so
@@ -11,6 +13,7 @@ a five-page report stays well under 1 MB to e-mail.
 
 from __future__ import annotations
 
+import datetime as _dt
 import unicodedata
 
 from fpdf import FPDF
@@ -29,18 +32,48 @@ _PLAIN = {"–": "-", "—": "-", "…": "...", "≈": "~", "≤": "<=", "≥": 
           "\u2009": " ", "\u202f": " "}
 
 
+REPLACEMENT = "?"
+
+
+def _settable(c: str) -> str | None:
+    """One character as the core fonts can set it: itself, a plain equivalent,
+    the base letter of an accented letter outside Latin-1, "" for a combining
+    mark (its letter carries on), or None when there is nothing to set."""
+    c = _PLAIN.get(c, c)
+    if len(c) != 1:
+        return c
+    o = ord(c)
+    if c in "\n":
+        return c
+    if c == "\t":
+        return " "
+    if o < 0x20 or 0x7F <= o <= 0x9F:  # control characters: nothing to print
+        return None
+    if o <= 0xFF:
+        return c
+    if unicodedata.combining(c):
+        return ""
+    base = unicodedata.normalize("NFKD", c).encode("latin-1", "ignore").decode("latin-1")
+    return base or None
+
+
 def _latin1(text) -> str:
-    """Text the core fonts can set: plain equivalents for common typography, the
-    base letter for accented letters outside Latin-1 (a macron or caron is
-    dropped), '?' for the rest.  The HTML and JSON keep the text as typed."""
-    out = []
-    for c in str(text):
-        c = _PLAIN.get(c, c)
-        if len(c) == 1 and ord(c) > 0xFF:
-            base = unicodedata.normalize("NFKD", c).encode("latin-1", "ignore").decode("latin-1")
-            c = base or "?"
-        out.append(c)
-    return "".join(out)
+    """Text the core fonts can set (``_settable``), REPLACEMENT for the rest.  The
+    HTML and JSON keep the text as typed; the PDF says when it replaced any
+    (``unprintable_count``)."""
+    return "".join(REPLACEMENT if (t := _settable(c)) is None else t for c in str(text))
+
+
+def unprintable_count(value) -> int:
+    """How many characters in the strings of ``value`` (the report model) the PDF
+    prints as REPLACEMENT: a user's script the core fonts do not carry."""
+    if isinstance(value, str):
+        return sum(_settable(c) is None for c in value)
+    if isinstance(value, dict):
+        return sum(unprintable_count(v) for v in value.values())
+    if isinstance(value, (list, tuple)):
+        return sum(unprintable_count(v) for v in value)
+    return 0
 
 
 class _ReportPDF(FPDF):
@@ -138,6 +171,8 @@ def render_pdf(model: dict, figures: dict, paper: str, captions: dict) -> bytes:
     pdf.set_title(_latin1(f"{model['title']}: {name}"))
     pdf.set_subject(_latin1(f"Verdict {model['verdict']}"))
     pdf.set_creator(_latin1(f"leosite {r['leosite_version']}"))
+    # The report's own time, not the clock: the same run and time give the same bytes.
+    pdf.set_creation_date(_dt.datetime.strptime(r["generated"], "%Y-%m-%dT%H:%M:%SZ").replace(tzinfo=_dt.timezone.utc))
     surveyor = dict(model["header"]).get("Surveyed by", "")
     if surveyor and surveyor != "-":
         pdf.set_author(_latin1(surveyor))
@@ -152,6 +187,11 @@ def render_pdf(model: dict, figures: dict, paper: str, captions: dict) -> bytes:
     pdf.multi_cell(0, 6.5, _latin1(name), new_x=XPos.LMARGIN, new_y=YPos.NEXT)
     pdf.ln(1)
     pdf.grid(None, model["header"][1:], (32, pdf.epw - 32), key_column=True)
+    unprintable = unprintable_count(model)
+    if unprintable:
+        pdf.para(f"{unprintable:,} typed character{'s' if unprintable > 1 else ''} cannot be set in this PDF's "
+                 f"font and {'are' if unprintable > 1 else 'is'} printed as {REPLACEMENT}; the HTML and JSON "
+                 "reports keep the text as typed.", size=SMALL_PT, style="I")
 
     # Verdict box: a heavy frame and the word itself, so it reads in black and white.
     pdf.ln(3)
