@@ -24,13 +24,20 @@ from .pipeline import FleetChoice, SiteRun, mount_text, result_dict, run_site
 from .report import format_for, load_report_inputs, write_report
 from .safety import short_note, spot_note
 from .site import load_site, parse_time
-from .window import MAX_HOURS
+from .window import MAX_HOURS, MAX_STEP_S, MIN_STEP_S
 from .words import NBSP, azimuth_span, duration, elevation, length, length_number, pct
 
 
 class _Parser(argparse.ArgumentParser):
     def error(self, message):  # one line and exit 2, like every other input problem
         raise InputError(f"command line: {message} (see '{self.prog} --help')")
+
+    def parse_args(self, args=None, namespace=None):
+        parsed = super().parse_args(args, namespace)
+        for key, value in vars(parsed).items():
+            if isinstance(value, list):  # argparse keeps "--opt=--" as a list instead of converting it
+                raise InputError(f"command line: --{key.replace('_', '-')}: expected one value")
+        return parsed
 
 
 @dataclass(frozen=True)
@@ -44,6 +51,9 @@ class Command:
     description: str
     add_arguments: Callable[[argparse.ArgumentParser], None]
     run: Callable[[argparse.Namespace], int]
+
+
+MAX_PROBLEM_LINES = 20  # the rest are counted, so a wholly broken file does not flood the terminal
 
 
 def build_parser(extra: tuple[Command, ...] = ()) -> argparse.ArgumentParser:
@@ -135,8 +145,8 @@ def check_run_args(args) -> None:
     problems = Problems("command line")
     if args.hours is not None and not (math.isfinite(args.hours) and 0 < args.hours <= MAX_HOURS):
         problems.add("--hours", f"expected more than 0 and at most {MAX_HOURS:g} hours (a year), got {args.hours:g}")
-    if args.step is not None and not (math.isfinite(args.step) and args.step > 0):
-        problems.add("--step", f"must be a number of seconds greater than 0, got {args.step:g}")
+    if args.step is not None and not (math.isfinite(args.step) and MIN_STEP_S <= args.step <= MAX_STEP_S):
+        problems.add("--step", f"expected {MIN_STEP_S:g} to {MAX_STEP_S:g} seconds, got {args.step:g}")
     if args.min_elevation is not None and not (math.isfinite(args.min_elevation) and 0 <= args.min_elevation <= 90):
         problems.add("--min-elevation", f"{args.min_elevation:g} is outside 0 to 90 degrees")
     if args.start is not None:
@@ -415,8 +425,10 @@ def _dispatch(parser, argv, extra) -> int:
         parser.print_help()
         return 2
     except InputError as exc:
-        for line in exc.problems:
+        for line in exc.problems[:MAX_PROBLEM_LINES]:
             print(f"leosite: {line}", file=sys.stderr)
+        if len(exc.problems) > MAX_PROBLEM_LINES:
+            print(f"leosite: ... and {len(exc.problems) - MAX_PROBLEM_LINES:,} more problems", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("leosite: interrupted", file=sys.stderr)

@@ -245,9 +245,12 @@ def default_fleet(epoch: datetime) -> Fleet:
                         illustrative=True)
 
 
+_DIGITS = frozenset("0123456789")  # str.isdigit() also takes '²' and other scripts' digits
+
+
 def tle_checksum(line: str) -> int:
     """TLE checksum: sum of digits, minus signs count 1, modulo 10 (column 69)."""
-    return sum(int(c) if c.isdigit() else (1 if c == "-" else 0) for c in line[:68]) % 10
+    return sum(int(c) if c in _DIGITS else (1 if c == "-" else 0) for c in line[:68]) % 10
 
 
 def parse_tle(text: str, where: str) -> Fleet:
@@ -277,7 +280,7 @@ def parse_tle(text: str, where: str) -> Fleet:
             if not ln_.startswith(first + " ") or len(ln_) < 69:
                 problems.add(f"line {num}", f"expected TLE line {first} (69 columns starting '{first} ')")
                 bad = True
-            elif not ln_[68].isdigit() or int(ln_[68]) != tle_checksum(ln_):
+            elif ln_[68] not in _DIGITS or int(ln_[68]) != tle_checksum(ln_):
                 problems.add(f"line {num}", f"checksum mismatch: column 69 says {ln_[68]!r}, "
                                             f"the line sums to {tle_checksum(ln_)}")
                 bad = True
@@ -322,7 +325,7 @@ def _omm_epoch(text: str) -> str | None:
     digits, optional Z) as the YYYY-MM-DDThh:mm:ss.ffffff text sgp4's OMM reader takes."""
     text = text.strip().rstrip("Z")
     whole, _, frac = text.partition(".")
-    if frac and not frac.isdigit():
+    if frac and not all(c in _DIGITS for c in frac):
         return None
     for fmt in ("%Y-%m-%dT%H:%M:%S", "%Y-%jT%H:%M:%S"):
         try:
@@ -389,6 +392,10 @@ def parse_elements(text: str, where: str) -> Fleet:
     if head.startswith("<"):
         import xml.etree.ElementTree as ET  # only OMM XML needs it
 
+        if "<!DOCTYPE" in text or "<!ENTITY" in text:  # README, "Limits": OMM needs neither
+            raise InputError(f"{where}: OMM XML with a DOCTYPE or entity declarations is refused "
+                             "(OMM needs neither; entities can expand without bound)")
+
         try:
             root = ET.fromstring(text)
         except ET.ParseError as exc:
@@ -412,5 +419,9 @@ def parse_elements(text: str, where: str) -> Fleet:
             raise InputError(f"{where}: OMM JSON must be an object or a list of objects")
         return parse_omm_records(records, where)
     if head.upper().startswith(("OBJECT_NAME", "CCSDS", "NORAD_CAT_ID", "EPOCH", "OBJECT_ID")) and "," in head:
-        return parse_omm_records(list(csv.DictReader(io.StringIO(text))), where)
+        try:
+            records = list(csv.DictReader(io.StringIO(text, newline="")))
+        except csv.Error as exc:
+            raise InputError(f"{where}: not an OMM CSV file: {exc}") from None
+        return parse_omm_records(records, where)
     return parse_tle(text, where)

@@ -203,6 +203,14 @@ def _without_comment(line: str) -> str:
     return line
 
 
+MAX_HORIZON_POINTS = 20_000  # README, "Limits": a reading every 0.02 degrees; the mask works per point
+
+
+def too_many_points() -> str:
+    return (f"more than the limit of {MAX_HORIZON_POINTS:,} horizon points: keep one reading every "
+            "degree or so (the profile is interpolated between readings)")
+
+
 def read_horizon_csv(path: str | Path) -> tuple[HorizonPoint, ...]:
     """Read a horizon CSV: header ``azimuth_deg,elevation_deg`` with optional
     ``distance_m`` and ``label`` columns; ``#`` outside quotes starts a comment."""
@@ -216,6 +224,8 @@ def read_horizon_csv(path: str | Path) -> tuple[HorizonPoint, ...]:
             lines.append((n, body))
     if not lines:
         raise InputError(f"{path}: empty: expected a header azimuth_deg,elevation_deg")
+    if len(lines) - 1 > MAX_HORIZON_POINTS:
+        raise InputError(f"{path}: {len(lines) - 1:,} rows, {too_many_points()}")
     header_line, header = lines[0]
     try:
         cols = [c.strip() for c in next(csv.reader([header]))]

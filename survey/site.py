@@ -15,9 +15,10 @@ from pathlib import Path
 from .demos import resolve_site_path
 from .errors import InputError, Problems
 from .fileio import parse_toml, read_text
-from .horizon import HorizonProfile, parse_point, read_horizon_csv
+from .horizon import MAX_HORIZON_POINTS, HorizonProfile, parse_point, read_horizon_csv, too_many_points
 from .plan import PLAN_RADIUS_M, Plan, plan_from_site_table
 from .tables import Table
+from .window import MAX_HOURS, MAX_STEP_S, MIN_STEP_S
 
 MOUNT_KINDS = ("fixed", "vehicle", "marine")
 MIN_REASSIGN_S, MAX_REASSIGN_S = 1.0, 86_400.0  # a scheduling period of 1 s to a day (README, "Limits")
@@ -187,6 +188,9 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     if not isinstance(raw_points, list):
         problems.add("horizon.points", "expected a list of [azimuth_deg, elevation_deg, ...]")
         raw_points = []
+    if len(raw_points) > MAX_HORIZON_POINTS:
+        problems.add("horizon.points", f"{len(raw_points):,} points, {too_many_points()}")
+        raw_points = []
     for i, raw in enumerate(raw_points):
         p = parse_point(raw, f"horizon.points[{i}]", problems)
         if p is not None:
@@ -204,10 +208,10 @@ def site_from_dict(doc: dict, path: Path) -> Site:
         start = parse_time(w.data["start"], "window.start", problems)
         if start is not None:
             window["start"] = start
-    hours = w.number("hours", None, positive=True)
+    hours = w.number("hours", None, positive=True, hi=MAX_HOURS)
     if hours is not None:
         window["hours"] = hours
-    step = w.number("step_s", None, positive=True)
+    step = w.number("step_s", None, lo=MIN_STEP_S, hi=MAX_STEP_S)
     if step is not None:
         window["step_s"] = step
 

@@ -370,6 +370,21 @@ def _warnings(site, plan: Plan, scene: Scene, cands: list[Candidate], years: flo
     return out
 
 
+def check_at(east_m: float, north_m: float, height_m: float, years: float = 0.0) -> None:
+    """Refuse a point ``horizon_at`` cannot stand on: not finite, over 2 km from
+    the site point, or 0 to 500 m up not kept; and years as check_options."""
+    check_options(years, 1.0, None)
+    problems = Problems("command line")
+    vals = (east_m, north_m, height_m)
+    if not all(isinstance(v, (int, float)) and math.isfinite(v) for v in vals):
+        problems.add("--at", f"expected three numbers EAST,NORTH,HEIGHT in metres, got {vals!r}")
+    elif math.hypot(east_m, north_m) > 2000.0:
+        problems.add("--at", f"{math.hypot(east_m, north_m):.6g} m from the site point (at most 2,000 m)")
+    elif not 0 <= height_m <= 500:
+        problems.add("--at", f"height {height_m:g} m is outside 0 to 500 m")
+    problems.raise_if_any()
+
+
 def horizon_at(run_or_site, east_m: float, north_m: float, height_m: float, years: float = 0.0,
                plan: Plan | None = None) -> dict:
     """The horizon at a point (``leosite horizon --at EAST,NORTH,HEIGHT``):
@@ -382,16 +397,7 @@ def horizon_at(run_or_site, east_m: float, north_m: float, height_m: float, year
     ``run_or_site`` is a pipeline.SiteRun (its declination is used) or a Site
     (the WMM2025 declination at the window start, or today, when its bearings are
     magnetic)."""
-    check_options(years, 1.0, None)
-    problems = Problems("command line")
-    vals = (east_m, north_m, height_m)
-    if not all(isinstance(v, (int, float)) and math.isfinite(v) for v in vals):
-        problems.add("--at", f"expected three numbers EAST,NORTH,HEIGHT in metres, got {vals!r}")
-    elif math.hypot(east_m, north_m) > 2000.0:
-        problems.add("--at", f"{math.hypot(east_m, north_m):,.0f} m from the site point (at most 2,000 m)")
-    elif not 0 <= height_m <= 500:
-        problems.add("--at", f"height {height_m:g} m is outside 0 to 500 m")
-    problems.raise_if_any()
+    check_at(east_m, north_m, height_m, years)
     if hasattr(run_or_site, "declination"):
         site, dec = run_or_site.site, run_or_site.declination.declination_deg
     else:

@@ -20,6 +20,7 @@ DEFAULT_STEP_S = 15.0
 MAX_SAMPLES = 2_000_000  # sample times per satellite
 MAX_HOURS = 24.0 * 366  # a window of at most a year (README, "Limits")
 LAST_YEAR = 9998  # a window must end before the calendar does
+MIN_STEP_S, MAX_STEP_S = 0.1, 3600.0  # a tenth of a second to an hour between samples (README, "Limits")
 
 
 @dataclass(frozen=True)
@@ -58,8 +59,8 @@ def resolve_window(site, start: datetime | None = None, hours: float | None = No
     if not (math.isfinite(spec.hours) and 0 < spec.hours <= MAX_HOURS):
         raise InputError(f"window: {spec.hours:g} h is outside 0 to {MAX_HOURS:g} h (a year): "
                          "assess a shorter window")
-    if not (math.isfinite(spec.step_s) and spec.step_s > 0):
-        raise InputError(f"window: step {spec.step_s:g} s must be a number of seconds greater than 0")
+    if not (math.isfinite(spec.step_s) and MIN_STEP_S <= spec.step_s <= MAX_STEP_S):
+        raise InputError(f"window: step {spec.step_s:g} s is outside {MIN_STEP_S:g} to {MAX_STEP_S:g} s")
     try:
         ends = spec.start + timedelta(hours=spec.hours)
     except OverflowError:

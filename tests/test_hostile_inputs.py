@@ -9,8 +9,10 @@ gets.  README, "Limits", lists the bounds checked here."""
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
+import tomllib
 from pathlib import Path
 
 import pytest
@@ -26,7 +28,11 @@ from survey.site import load_site
 
 from .helpers import MINIMAL_SITE, ROOT
 
-FUZZ = settings(max_examples=300, deadline=None, derandomize=True,
+# Examples per reader: 2,000 in the suite (seeded, so CI stays in its time budget);
+# tools/fuzz_readers.py sets more, and a fresh seed, through these variables.
+EXAMPLES = int(os.environ.get("LEOSITE_FUZZ_EXAMPLES", "2000"))
+SEEDED = os.environ.get("LEOSITE_FUZZ_RANDOM", "") == ""
+FUZZ = settings(max_examples=EXAMPLES, deadline=None, derandomize=SEEDED, database=None,
                 suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 
 
@@ -45,7 +51,7 @@ def only_our_error(read, *args):
 PIECES = st.sampled_from([
     "[", "]", "{", "}", "=", ",", '"', "'", "#", "\n", "\x00", "\t", ":", ";", "-", ".", "e", "inf", "nan",
     "1e308", "-1e308", "9" * 400, "0x1F", "true", "[[", "]]", "points", "latitude", "azimuth_deg", "Ōtaki",
-    "\u202e", "\ufeff", "1 2", "  ",
+    "\u202e", "\ufeff", "1 2", "  ", "\\ud800", "\\udc00", "\\ud83d\\ude00", "\r", "²",
 ])
 TEXT = st.lists(st.one_of(PIECES, st.text(max_size=6)), max_size=40).map("".join)
 
@@ -78,15 +84,33 @@ def test_shell_file_reader(text):
 
 
 TLE = ("ONE\n"
-       "1 25544U 98067A   26152.50000000  .00016717  00000-0  10270-3 0  9993\n"
-       "2 25544  51.6400 208.9163 0006317  69.9862  25.2906 15.49541234 12345\n")
+       "1 25544U 98067A   26152.50000000  .00016717  00000-0  10270-3 0  9996\n"
+       "2 25544  51.6400 208.9163 0006317  69.9862  25.2906 15.49541234 12346\n")
 OMM_JSON = json.dumps([{"OBJECT_NAME": "A", "NORAD_CAT_ID": 1, "EPOCH": "2026-06-01T00:00:00", "MEAN_MOTION": 15.0,
                         "ECCENTRICITY": 0.001, "INCLINATION": 53.0, "RA_OF_ASC_NODE": 10.0, "ARG_OF_PERICENTER": 0.0,
                         "MEAN_ANOMALY": 0.0}])
 
 
+OMM_XML = ('<?xml version="1.0"?>\n<ndm><omm id="CCSDS_OMM_VERS" version="2.0"><body><segment><metadata>'
+           "<OBJECT_NAME>A</OBJECT_NAME><OBJECT_ID>2026-001A</OBJECT_ID></metadata><data><meanElements>"
+           "<EPOCH>2026-06-01T00:00:00</EPOCH><MEAN_MOTION>15.0</MEAN_MOTION><ECCENTRICITY>0.001</ECCENTRICITY>"
+           "<INCLINATION>53.0</INCLINATION><RA_OF_ASC_NODE>10.0</RA_OF_ASC_NODE>"
+           "<ARG_OF_PERICENTER>0.0</ARG_OF_PERICENTER><MEAN_ANOMALY>0.0</MEAN_ANOMALY></meanElements>"
+           "<tleParameters><NORAD_CAT_ID>1</NORAD_CAT_ID><BSTAR>0.0001</BSTAR></tleParameters></data>"
+           "</segment></body></omm></ndm>\n")
+OMM_CSV = ("OBJECT_NAME,NORAD_CAT_ID,EPOCH,MEAN_MOTION,ECCENTRICITY,INCLINATION,RA_OF_ASC_NODE,"
+           "ARG_OF_PERICENTER,MEAN_ANOMALY\nA,1,2026-06-01T00:00:00,15.0,0.001,53.0,10.0,0.0,0.0\n")
+
+
+def test_the_seeds_are_good_element_sets():
+    """Each splice starts from a file the reader takes, so the fuzzing probes the
+    edge of what is accepted, not only the front door."""
+    for text in (TLE, OMM_JSON, OMM_XML, OMM_CSV):
+        assert len(parse_elements(text, "seed")) == 1
+
+
 @FUZZ
-@given(st.one_of(spliced(TLE), spliced(OMM_JSON), TEXT))
+@given(st.one_of(spliced(TLE), spliced(OMM_JSON), spliced(OMM_XML), spliced(OMM_CSV), TEXT))
 def test_element_set_reader(text):
     only_our_error(parse_elements, text, "elements.txt")
 
@@ -116,33 +140,103 @@ def test_report_json_reader(tmp_path_factory, text):
     only_our_error(load_report_inputs, path)
 
 
+# ------------------------------------------------------------------ command-line values
+
+VALUES = st.one_of(st.floats().map(repr), st.integers().map(str), TEXT,
+                   st.sampled_from(["inf", "-inf", "nan", "1e308", "0", "-0", "1e-320", "9" * 400, "", "2026-13-01",
+                                    "9999-12-31T23:00:00Z", "0001-01-01", "2026-06-01T00:00:00+14:00", "1,2,3",
+                                    "1,2", "nan,0,0", "1e308,1e308,1e308"]))
+
+
+@FUZZ
+@given(st.sampled_from(["--hours", "--step", "--min-elevation", "--start"]), VALUES)
+def test_command_line_run_values(capsys, option, value):
+    """What `leosite assess SITE OPTION=VALUE` does before any propagation: the
+    parser, the option checks and the window.  A refusal is our one-line error."""
+    from survey.cli import build_parser, check_run_args
+    from survey.window import resolve_window
+
+    def parse_and_plan():
+        try:
+            args = build_parser().parse_args(["assess", "demo:alder-brook-farm", f"{option}={value}"])
+        except SystemExit as exc:  # the parser's own refusal: one line, exit 2
+            err = capsys.readouterr().err.strip().splitlines()
+            assert exc.code == 2 and len(err) == 1 and err[0].startswith("leosite: "), err
+            return
+        check_run_args(args)
+        resolve_window(load_site(args.site), args.start, args.hours, args.step)
+
+    only_our_error(parse_and_plan)
+
+
+@FUZZ
+@given(VALUES, VALUES, VALUES, VALUES)
+def test_command_line_spot_values(capsys, at, years, spacing, target):
+    """`leosite horizon --at --years` and `leosite spots --spacing --target-blocked`,
+    through the parser and the checks the commands run before the work."""
+    from survey.cli import _parse_at, build_parser
+    from survey.spots import check_at, check_options
+
+    def parse(argv):
+        try:
+            return build_parser().parse_args(argv)
+        except SystemExit as exc:
+            err = capsys.readouterr().err.strip().splitlines()
+            assert exc.code == 2 and len(err) == 1 and err[0].startswith("leosite: "), err
+            return None
+
+    def horizon():
+        args = parse(["horizon", "demo:alder-brook-farm", f"--at={at}", f"--years={years}"])
+        if args is not None:
+            check_at(*_parse_at(args.at), args.years)
+
+    def spots():
+        args = parse(["spots", "demo:alder-brook-farm", f"--spacing={spacing}", f"--target-blocked={target}"])
+        if args is not None:
+            check_options(args.years, args.spacing, args.target_blocked)
+
+    only_our_error(horizon)
+    only_our_error(spots)
+
+
 # ------------------------------------------------------------------ the corpus
-# Bad inputs found by the fuzzing above or reported by users, each with the
-# fragment of the message the user must see.
-CORPUS = [
-    ("site", MINIMAL_SITE.replace("latitude = 45.0", "latitude = " + "9" * 400), "site.latitude: expected a number"),
-    ("site", MINIMAL_SITE + "\n[survey]\nnotes = " + "[" * 5000 + "]" * 5000 + "\n", "nested too deeply"),
-    ("report", json.dumps({"report": [1, 2]}), "report.kind: not a leosite site report"),
-    ("report", "[" * 100000 + "]" * 100000, "JSON nested too deeply"),
-    ("report", REPORT.replace('"fleet": {"kind": "default"}', '"fleet": [1]'), "inputs.fleet: expected an object"),
-    ("csv", "azimuth_deg,elevation_deg,label\n10,20," + "x" * 200000 + "\n", "line 2: not a CSV row"),
-    ("csv", "azimuth_deg,elevation_deg,elevation_deg\n10,20,30\n", "column 'elevation_deg' appears more than once"),
-    ("shells", '[[shell]]\nname="x"\naltitude_km=550\ninclination_deg=53\nplanes=1000\nper_plane=1000\n',
-     "1,000,000 satellites in all, more than the limit of 50,000"),
-]
+# Bad inputs found by the fuzzing above or reported by users, one file each in
+# tests/corpus/, with the fragment of the message the user must see in
+# tests/corpus/expected.toml.
+CORPUS_DIR = ROOT / "tests" / "corpus"
+CORPUS = tomllib.loads((CORPUS_DIR / "expected.toml").read_text("utf-8"))
 
 
-@pytest.mark.parametrize("kind, text, fragment", CORPUS, ids=[f"{k}-{i}" for i, (k, _, _) in enumerate(CORPUS)])
-def test_corpus(tmp_path, kind, text, fragment):
-    read = {"site": (load_site, "site.toml"), "report": (load_report_inputs, "r.json"),
-            "csv": (read_horizon_csv, "h.csv"), "shells": (None, "s.toml")}[kind]
-    if kind == "shells":
-        problems = only_our_error(parse_shells, text, "s.toml")
+def _corpus_reader(name: str):
+    if name.startswith("site-"):
+        return load_site, None
+    if name.startswith("report-"):
+        return load_report_inputs, None
+    if name.startswith("horizon-"):
+        return read_horizon_csv, None
+    if name.startswith("shells-"):
+        return None, parse_shells
+    if name.startswith("elements-"):
+        return None, parse_elements
+    if name.startswith("plan-"):
+        return (lambda p: load_plan_geojson(p, 45.0, -73.0)), None
+    raise AssertionError(f"tests/corpus/{name}: no reader for this prefix")
+
+
+def test_every_corpus_file_has_its_message():
+    files = {p.name for p in CORPUS_DIR.iterdir()} - {"expected.toml"}
+    assert files == set(CORPUS)
+
+
+@pytest.mark.parametrize("name", sorted(CORPUS))
+def test_corpus(name):
+    path_reader, text_reader = _corpus_reader(name)
+    path = CORPUS_DIR / name
+    if text_reader is not None:
+        problems = only_our_error(text_reader, path.read_text("utf-8"), name)
     else:
-        path = tmp_path / read[1]
-        path.write_text(text, encoding="utf-8")
-        problems = only_our_error(read[0], path)
-    assert problems and any(fragment in p for p in problems), problems
+        problems = only_our_error(path_reader, path)
+    assert problems and any(CORPUS[name] in p for p in problems), problems
 
 
 def test_a_closed_pipe_ends_quietly(tmp_path):

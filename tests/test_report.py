@@ -12,6 +12,8 @@ from html.parser import HTMLParser
 
 import numpy as np
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from PIL import Image
 from pypdf import PdfReader
 
@@ -436,3 +438,65 @@ def test_one_way_to_write_a_length():
 
     assert [length(x) for x in (9, 6.5, 2.25, 12.0, 0.1, -1.1)] == [
         "9.0\u00a0m", "6.5\u00a0m", "2.25\u00a0m", "12.0\u00a0m", "0.1\u00a0m", "-1.1\u00a0m"]
+
+
+# ------------------------------------------------------------------ any text a user types
+USER_TEXT_SITE = (MINIMAL_SITE.replace('name = "Test yard"', 'name = "USERTEXT"')
+                  + '[horizon]\nreference = "true"\npoints = [[10, 30, 12.0, "USERTEXT"], [200, 20]]\n'
+                  + '[survey]\nsurveyor = "USERTEXT"\nnotes = "USERTEXT"\n')
+
+
+def _with_text(value, text: str):
+    if isinstance(value, str):
+        return value.replace("USERTEXT", text)
+    if isinstance(value, dict):
+        return {k: _with_text(v, text) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return type(value)(_with_text(v, text) for v in value)
+    return value
+
+
+@pytest.fixture(scope="module")
+def user_text_report(tmp_path_factory):
+    from survey.report.write import report_figures
+
+    path = tmp_path_factory.mktemp("unicode") / "site.toml"
+    path.write_text(USER_TEXT_SITE, encoding="utf-8")
+    run = run_site(load_site(path), hours=1, step_s=120)
+    return report_model(run, WHEN), report_figures(run, None)
+
+
+# Printable Latin-1 by the code chart (ISO/IEC 8859-1): 0x20-0x7E and 0xA0-0xFF.
+LATIN1_PRINTABLE = "".join(chr(o) for o in list(range(0x21, 0x7F)) + list(range(0xA1, 0x100)) if chr(o) != "\xad")
+
+
+@settings(max_examples=25, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(st.text(st.characters(exclude_categories=("Cs",)), min_size=1, max_size=40))
+def test_the_pdf_takes_any_text_a_user_types(user_text_report, text):
+    """Safe to share: any Unicode in the site name, a label, the surveyor or the
+    notes gives a PDF (never a crash), and when the font cannot set a character
+    the PDF says so under the header."""
+    from survey.report.pdf import render_pdf
+    from survey.report.write import FIGURE_CAPTIONS
+
+    model, figures = user_text_report
+    data = render_pdf(_with_text(model, text), figures, "a4", FIGURE_CAPTIONS)
+    _, pdf_text = _pdf_text(data)
+    said = "cannot be set in this PDF's font" in " ".join(pdf_text.split())
+    if all(c in LATIN1_PRINTABLE for c in text):  # what the core fonts carry: printed as typed, nothing said
+        assert text in pdf_text and not said
+    if any(0x4E00 <= ord(c) <= 0x9FFF or 0x1F300 <= ord(c) <= 0x1FAFF for c in text):  # CJK, emoji
+        assert said
+
+
+def test_a_script_the_font_lacks_is_said_and_kept_in_html(user_text_report):
+    from survey.report.html import render_html
+    from survey.report.pdf import render_pdf
+    from survey.report.write import FIGURE_CAPTIONS
+
+    model, figures = user_text_report
+    model = _with_text(model, "東京 yard")
+    _, pdf_text = _pdf_text(render_pdf(model, figures, "a4", FIGURE_CAPTIONS))
+    flat = " ".join(pdf_text.split())
+    assert "?? yard" in flat and "are printed as ?" in flat
+    assert "東京 yard" in render_html(model, figures)

@@ -9,7 +9,7 @@ import math
 
 import shapely
 
-from ..errors import Problems
+from ..errors import InputError, Problems
 from ..tables import Table, is_number
 from .model import (
     MAX_HEIGHT_M,
@@ -161,7 +161,18 @@ def _make(kind: str, t: Table, geom, ridge, field: str, index: int, problems: Pr
     return None if geom is None or len(problems.items) > n_before else item
 
 
+MAX_PLAN_OBJECTS = 5_000  # README, "Limits": each obstacle is traced on every ray of every spot
+
+
+def check_plan_size(count: int, source: str) -> None:
+    """Refuse a plan of more than MAX_PLAN_OBJECTS objects, before reading them."""
+    if count > MAX_PLAN_OBJECTS:
+        raise InputError(f"{source}: plan: {count:,} objects, more than the limit of {MAX_PLAN_OBJECTS:,}: "
+                         "draw only what stands near the mount")
+
+
 def _collect(entries: dict[str, list], source: str) -> Plan:
+    check_plan_size(sum(len(v) for v in entries.values()), source)
     return Plan(tuple(entries["building"]), tuple(entries["tree"]), tuple(entries["wall"]),
                 tuple(entries["prism"]), tuple(entries["area"]), tuple(entries["pole"]),
                 tuple(entries["point"]), (), source)

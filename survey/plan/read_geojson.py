@@ -11,7 +11,7 @@ import numpy as np
 from ..errors import InputError, Problems
 from ..fileio import parse_json, read_text
 from ..tables import Table
-from .entries import GEOMETRY_KEY, KEYS, KINDS, _collect, _line, _make, _position, _positions, _ridge, _ring
+from .entries import GEOMETRY_KEY, KEYS, KINDS, _collect, _line, _make, _position, _positions, _ridge, _ring, check_plan_size
 from .geodesy import lonlat_to_local
 from .model import XY, Plan
 
@@ -48,6 +48,7 @@ def load_plan_geojson(path: str | Path, origin_lat_deg: float, origin_lon_deg: f
                                origin_lat_deg, origin_lon_deg)
         return [(float(a), float(b)) for a, b in zip(np.atleast_1d(e), np.atleast_1d(n))]
 
+    check_plan_size(len(features), str(path))
     entries: dict[str, list] = {k: [] for k in KINDS}
     counts = {k: 0 for k in KINDS}
     for i, feat in enumerate(features):

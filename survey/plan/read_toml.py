@@ -9,7 +9,7 @@ from pathlib import Path
 from ..errors import InputError, Problems
 from ..fileio import parse_toml, read_text
 from ..tables import Table
-from .entries import GEOMETRY_KEY, KEYS, KINDS, _collect, _line, _make, _position, _positions, _ridge, _ring
+from .entries import GEOMETRY_KEY, KEYS, KINDS, _collect, _line, _make, _position, _positions, _ridge, _ring, check_plan_size
 from .model import Plan
 from .read_geojson import load_plan_geojson
 
@@ -19,6 +19,7 @@ def plan_from_tables(doc: dict, prefix: str, problems: Problems, source: str) ->
     ...), positions in metres [east, north]; fields are reported as
     ``{prefix}{kind}[i].{key}``.  Problems are added to ``problems``."""
     entries: dict[str, list] = {k: [] for k in KINDS}
+    check_plan_size(sum(len(v) for k in KINDS if isinstance(v := doc.get(k), list)), source)
     for kind in KINDS:
         raw = doc.get(kind, [])
         if not isinstance(raw, list):
