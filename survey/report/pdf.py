@@ -65,15 +65,20 @@ def _latin1(text) -> str:
 
 
 def unprintable_count(value) -> int:
-    """How many characters in the strings of ``value`` (the report model) the PDF
-    prints as REPLACEMENT: a user's script the core fonts do not carry."""
-    if isinstance(value, str):
-        return sum(_settable(c) is None for c in value)
-    if isinstance(value, dict):
-        return sum(unprintable_count(v) for v in value.values())
-    if isinstance(value, (list, tuple)):
-        return sum(unprintable_count(v) for v in value)
-    return 0
+    """How many different characters in the strings of ``value`` (the report
+    model) the PDF prints as REPLACEMENT: a user's script the core fonts do not
+    carry."""
+    found: set[str] = set()
+    todo = [value]
+    while todo:
+        v = todo.pop()
+        if isinstance(v, str):
+            found.update(c for c in set(v) if _settable(c) is None)
+        elif isinstance(v, dict):
+            todo.extend(v.values())
+        elif isinstance(v, (list, tuple)):
+            todo.extend(v)
+    return len(found)
 
 
 class _ReportPDF(FPDF):
@@ -189,9 +194,10 @@ def render_pdf(model: dict, figures: dict, paper: str, captions: dict) -> bytes:
     pdf.grid(None, model["header"][1:], (32, pdf.epw - 32), key_column=True)
     unprintable = unprintable_count(model)
     if unprintable:
-        pdf.para(f"{unprintable:,} typed character{'s' if unprintable > 1 else ''} cannot be set in this PDF's "
-                 f"font and {'are' if unprintable > 1 else 'is'} printed as {REPLACEMENT}; the HTML and JSON "
-                 "reports keep the text as typed.", size=SMALL_PT, style="I")
+        many = unprintable > 1
+        pdf.para(f"{unprintable:,} different character{'s' if many else ''} typed for this site "
+                 f"{'are' if many else 'is'} not in this PDF's font and {'are' if many else 'is'} printed as "
+                 f"{REPLACEMENT}; the HTML and JSON reports keep the text as typed.", size=SMALL_PT, style="I")
 
     # Verdict box: a heavy frame and the word itself, so it reads in black and white.
     pdf.ln(3)
