@@ -53,6 +53,18 @@ class Command:
     run: Callable[[argparse.Namespace], int]
 
 
+# Subcommands kept in modules of their own (one concept a module): each such
+# module defines ``COMMAND = Command(...)``, imports what is heavy inside its run
+# function, and is named here, one line each.
+COMMAND_MODULES: tuple[str, ...] = ()
+
+
+def engine_commands() -> tuple[Command, ...]:
+    import importlib
+
+    return tuple(importlib.import_module(f"{__package__}.{m}").COMMAND for m in COMMAND_MODULES)
+
+
 MAX_PROBLEM_LINES = 20  # the rest are counted, so a wholly broken file does not flood the terminal
 
 
@@ -398,6 +410,7 @@ def main(argv=None, extra: tuple[Command, ...] = ()) -> int:
     adds (tui/launch.py adds ``ui``; the engine never imports the front end).
     A reader that closes the pipe early (``| head``) ends the run quietly, with
     the status a shell gives a writer stopped by SIGPIPE (141)."""
+    extra = engine_commands() + tuple(extra)
     try:
         code = _dispatch(build_parser(extra), argv, extra)
         sys.stdout.flush()
