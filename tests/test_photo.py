@@ -444,3 +444,36 @@ def test_a_site_file_with_a_missing_photo_is_one_line(tmp_path):
     text = "\n".join(exc.value.problems)
     assert "horizon.photo.file: gone.jpg: file not found" in text
     assert "horizon.photo.bearing: missing" in text
+
+
+def test_report_shows_the_photo_and_says_where_the_horizon_came_from(tmp_path):
+    # Read back with pypdf (a reader we did not write) and html.parser-free string checks on the HTML.
+    from pypdf import PdfReader
+
+    pdf, html, again = tmp_path / "r.pdf", tmp_path / "r.html", tmp_path / "again.pdf"
+    js = tmp_path / "r.json"
+    for out in (pdf, html, js):
+        r = run_cli("report", "demo:fernbank-paddock", "--out", out, "--hours", "2", "--step", "60")
+        assert r.returncode == 0, r.stderr
+    text = " ".join(page.extract_text() for page in PdfReader(pdf).pages)
+    assert "The horizon came from a photo taken at the mount: panorama.jpg, equirectangular panorama" in text
+    assert "180.0° (compass) at its centre column" in text
+    body = html.read_text("utf-8")
+    assert "The photo with its skyline and the sky tracks" in body and body.count("data:image/png;base64") >= 4
+    r = run_cli("report", js, "--out", again)  # made again from the JSON: the photo is named by its path
+    assert r.returncode == 0, r.stderr
+    assert "The horizon came from a photo" in " ".join(p.extract_text() for p in PdfReader(again).pages)
+
+
+def test_demo_photo_is_small_and_made_by_its_script(tmp_path):
+    # tools/make_demo_photo.py draws it deterministically; the bundled file is well under 1 MB.
+    demo = ROOT / "demo_sites" / "fernbank-paddock" / "panorama.jpg"
+    assert demo.stat().st_size < 200_000
+    sys.path.insert(0, str(ROOT))
+    from tools.make_demo_photo import panorama
+
+    drawn = panorama()
+    with Image.open(demo) as im:
+        shown = np.asarray(im.convert("RGB"), dtype=np.int16)
+    assert shown.shape == drawn.shape
+    assert np.mean(np.abs(shown - drawn)) < 6.0  # the JPEG of what the script draws
