@@ -477,3 +477,43 @@ def test_demo_photo_is_small_and_made_by_its_script(tmp_path):
         shown = np.asarray(im.convert("RGB"), dtype=np.int16)
     assert shown.shape == drawn.shape
     assert np.mean(np.abs(shown - drawn)) < 6.0  # the JPEG of what the script draws
+
+
+def test_text_ui_shows_the_photo_skyline_under_the_measured_points(tmp_path):
+    # The horizon editor's preview draws max(measured, photo) with what the photo adds in ▒,
+    # checked against the photo's own skyline; adding a point keeps the photo under it.
+    import asyncio
+    import shutil
+
+    from tui.app import LeositeApp
+    from tui.session import Assessor
+    from tui.widgets.profile import PHOTO, HorizonProfile
+
+    shutil.copytree(ROOT / "demo_sites" / "fernbank-paddock", tmp_path / "fern")
+    site_file = tmp_path / "fern" / "site.toml"
+
+    async def scenario():
+        app = LeositeApp(site_file, Assessor(hours=2.0), work_root=tmp_path / "work")
+        async with app.run_test(size=(120, 40)) as pilot:
+            loop = asyncio.get_running_loop()
+            end = loop.time() + 60
+            while app.latest is None and loop.time() < end:
+                await pilot.pause(0.05)
+            assert app.latest is not None
+            await pilot.press("f3")
+            await pilot.pause(0.2)
+            editor = app.workspace.query_one("#editor")
+            assert editor.photo is not None
+            az, el = editor.photo
+            assert float(el[np.argmin(np.abs(az - 335.5))]) > 40.0  # the demo's mast, from the photo
+            drawing = str(app.workspace.query_one("#profile", HorizonProfile).render())
+            assert PHOTO in drawing and "photo" in drawing
+            await pilot.press("a")
+            for ch in "45 33 new shed":
+                await pilot.press({" ": "space"}.get(ch, ch))
+            await pilot.press("enter")
+            await pilot.pause(0.3)
+            assert len(editor.profile.points) == 3 and editor.photo is not None
+            assert PHOTO in str(app.workspace.query_one("#profile", HorizonProfile).render())
+
+    asyncio.run(scenario())
