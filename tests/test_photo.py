@@ -517,3 +517,17 @@ def test_text_ui_shows_the_photo_skyline_under_the_measured_points(tmp_path):
             assert PHOTO in str(app.workspace.query_one("#profile", HorizonProfile).render())
 
     asyncio.run(scenario())
+
+
+def test_the_photo_skyline_applies_at_a_spot_moved_on_the_plan(tmp_path, scenes):
+    # A photo's skyline has no distances: like a far measured point, the same at every spot (README).
+    from survey.spots import horizon_at
+
+    img = tmp_path / "pano.png"
+    img.write_bytes(scenes["equirect"].read_bytes())
+    site = load_site(site_with(tmp_path, extra='\n[horizon.photo]\nfile = "pano.png"\nprojection = "equirect"\n'
+                                                'bearing = 30\n'))
+    el = np.array(horizon_at(site, 5.0, -3.0, 4.0)["elevation_deg"])
+    assert el[int(MAST_AZ)] >= MAST_TOP - 1.0  # the 1.5° mast is kept at whole degrees
+    truth = np.clip(true_skyline(np.arange(360.0)), 0, 90)
+    assert np.mean(el >= truth - 1.0) >= 0.9
