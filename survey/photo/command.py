@@ -53,8 +53,11 @@ def spec_from_args(args) -> PhotoSpec:
     if args.lens != "equidistant" and args.projection != "fisheye":
         problems.add("--lens", "applies to a fisheye photo only")
     problems.raise_if_any()
-    spec = PhotoSpec(args.image.resolve() if args.image.exists() else args.image, args.projection, bearing,
-                     args.lens, circle)
+    try:
+        image = args.image.resolve() if args.image.exists() else args.image
+    except (OSError, ValueError):  # a name the OS refuses: check_spec says why, in one line
+        image = args.image
+    spec = PhotoSpec(image, args.projection, bearing, args.lens, circle)
     check_spec(spec)
     return spec
 

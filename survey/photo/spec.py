@@ -118,13 +118,24 @@ def photo_from_horizon_table(raw, site_path: Path, problems: Problems) -> PhotoS
     if projection != "fisheye" and ("lens" in t.data or "circle" in t.data):
         problems.add("horizon.photo", "lens and circle apply to a fisheye photo only")
     path = site_path.parent / name if name else None
-    if path is not None and "\x00" not in name and not path.is_file():
-        problems.add("horizon.photo.file", f"{name}: file not found (relative to the site file's folder)")
-    elif name and "\x00" in name:
+    if name and "\x00" in name:
         problems.add("horizon.photo.file", "holds a NUL character")
+    elif path is not None:
+        missing = _not_a_file(path)
+        if missing:
+            problems.add("horizon.photo.file", f"{name[:200]}: {missing} (relative to the site file's folder)")
     if len(problems.items) > before or path is None:
         return None
     return PhotoSpec(path, projection, bearing, lens, circle)
+
+
+def _not_a_file(path: Path) -> str:
+    """Why ``path`` is not a readable file ("" when it is one): the OS's own
+    reason for a name it refuses (too long, a bad character)."""
+    try:
+        return "" if path.is_file() else "file not found"
+    except (OSError, ValueError) as exc:
+        return f"cannot be opened: {getattr(exc, 'strerror', None) or exc}"
 
 
 def check_spec(spec: PhotoSpec) -> None:
@@ -137,8 +148,9 @@ def check_spec(spec: PhotoSpec) -> None:
         problems.add("--bearing", "missing: a fisheye photo needs the bearing at the top of the image")
     if spec.projection != "fisheye" and spec.circle is not None:
         problems.add("--circle", "applies to a fisheye photo only")
-    if not spec.file.is_file():
-        problems.add("IMAGE", f"{spec.file}: file not found")
+    missing = _not_a_file(spec.file)
+    if missing:
+        problems.add("IMAGE", f"{str(spec.file)[:200]}: {missing}")
     problems.raise_if_any()
 
 
