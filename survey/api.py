@@ -29,7 +29,7 @@ from .evaluate import Evaluator
 from .fileio import parse_toml, read_text
 from .geometry import cone_edge, nice_ceil, nice_floor, points_in_polygon
 from .horizon import HorizonMask, HorizonPoint, HorizonProfile, parse_point, read_horizon_csv
-from .mask import measured_mask, site_declination, site_mask
+from .mask import combined_mask, measured_mask, site_declination, site_mask, site_photo_skyline
 from .pipeline import FleetChoice, SiteRun, TrackCache, run_site
 from .report import format_for, pole_text, recommendations, write_report
 from .safety import notes_for, short_note, spot_note
@@ -40,6 +40,7 @@ from .window import WindowSpec, resolve_window, window_start
 from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, length_number, pct, utc
 
 __all__ = [
+    "combined_mask", "site_photo_skyline",
     "length_number",
     "measured_mask",
     "cone_edge", "nice_ceil", "nice_floor", "points_in_polygon",

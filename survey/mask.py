@@ -1,7 +1,8 @@
 """The site's mask: the declination for its compass bearings, and the horizon
-the antenna sees, measured or derived from the site plan.  One function
-(:func:`site_mask`) gives both, for the pipeline, the horizon at another point
-and the text UI's horizon preview, so they never differ.
+the antenna sees, measured or derived from the site plan, raised to the
+skyline of a horizon photo when the site has one (max(measured, photo)).  One
+function (:func:`site_mask`) gives both, for the pipeline, the horizon at
+another point and the text UI's horizon preview, so they never differ.
 """
 
 from __future__ import annotations
@@ -44,8 +45,59 @@ def true_mask(site: Site, dec: Declination) -> HorizonMask:
     measured horizon as-is at the survey point, or, with ``mount.at``, the horizon
     derived there (``derived_mask``)."""
     if site.mount.at is not None:
-        return derived_mask(site, dec.declination_deg)
-    return measured_mask(site.horizon, dec.declination_deg)
+        return with_photo(derived_mask(site, dec.declination_deg), site, dec)
+    return with_photo(measured_mask(site.horizon, dec.declination_deg), site, dec)
+
+
+PHOTO_LABEL = "photo"
+
+
+def photo_declination(site: Site, dec: Declination) -> float:
+    """What turns the photo's bearing to true: the declination for compass
+    bearings, 0 for true ones (the site's ``[horizon] reference``)."""
+    return dec.declination_deg if site.horizon.reference == "magnetic" else 0.0
+
+
+def site_photo_skyline(site: Site, dec: Declination):
+    """The skyline of the site's horizon photo (``photo.PhotoSkyline``), None without one."""
+    if site.photo is None:
+        return None
+    from .photo import photo_skyline
+
+    return photo_skyline(site.photo, photo_declination(site, dec))
+
+
+def combined_mask(mask: HorizonMask, az_deg: np.ndarray, el_deg: np.ndarray) -> HorizonMask:
+    """max(``mask``, the skyline ``el_deg`` at ``az_deg``, linear between its
+    points and periodic), on the union of both knots; a knot keeps the mask's
+    label where the mask is at least as high, else says ``photo``.  Between two
+    knots where the two cross, the maximum is read as the straight line (the
+    skyline's knots are 0.5° apart, so that is under 0.5° of azimuth)."""
+    az = np.union1d(np.mod(mask.az_deg, 360.0), np.mod(az_deg, 360.0))
+    m = mask.elevation_at(az)
+    p = np.interp(az, az_deg, el_deg, period=360.0)
+    own = dict(zip(np.mod(mask.az_deg, 360.0).tolist(), mask.labels))
+    labels = tuple(own.get(a, "") if mi >= pi else PHOTO_LABEL for a, mi, pi in zip(az.tolist(), m, p))
+    return HorizonMask(az, np.maximum(m, p), labels)
+
+
+def with_photo(mask: HorizonMask, site: Site, dec: Declination) -> HorizonMask:
+    """``mask`` raised to the site's photo skyline (unchanged without a photo)."""
+    sky = site_photo_skyline(site, dec)
+    if sky is None:
+        return mask
+    return combined_mask(mask, sky.az_deg, sky.el_deg)
+
+
+def photo_notes(site: Site, dec: Declination) -> list[str]:
+    """What a run says about its horizon photo: where the horizon came from and
+    the photo's own warnings."""
+    sky = site_photo_skyline(site, dec)
+    if sky is None:
+        return []
+    how = site.photo.describe(site.horizon.reference)
+    return [f"horizon from a photo ({how}): the mask is the higher of the measured points and its skyline "
+            f"(Otsu threshold {sky.threshold} on the blue channel)"] + [f"photo: {w}" for w in sky.warnings]
 
 
 def derived_mask(site: Site, declination_deg: float) -> HorizonMask:

@@ -16,7 +16,7 @@ from .evaluate import Evaluator
 from .fileio import read_text
 from .horizon import HorizonMask
 from .magnetic import Declination
-from .mask import site_mask
+from .mask import photo_notes, site_mask
 from .site import Site
 from .tracks import Observer, SkyTracks, compute_tracks
 from .window import WindowSpec, resolve_window
@@ -205,7 +205,8 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
         notes.extend(dec.warnings)
     notes.extend(mount_warnings(site))
     notes.extend(window_warnings(window, fleet))
-    if site.mount.at is None and site.plan is None:
+    notes.extend(photo_notes(site, dec))
+    if site.mount.at is None and site.plan is None and site.photo is None:
         notes.extend(horizon_warnings(site))
     if site.mount.kind != "fixed":
         notes.append(f"mount kind '{site.mount.kind}': heading, roll and route are not modelled yet; "

@@ -16,6 +16,7 @@ from .demos import resolve_site_path
 from .errors import InputError, Problems
 from .fileio import parse_toml, read_text
 from .horizon import MAX_HORIZON_POINTS, HorizonProfile, parse_point, read_horizon_csv, too_many_points
+from .photo.spec import PhotoSpec, photo_from_horizon_table
 from .plan import PLAN_RADIUS_M, Plan, plan_from_site_table
 from .tables import Table
 from .window import MAX_HOURS, MAX_STEP_S, MIN_STEP_S
@@ -98,6 +99,7 @@ class Site:
     # the mount height, kept in step by __post_init__; moving the mount with
     # dataclasses.replace then keeps the height the horizon was measured from.
     measured_height_m: float | None = None
+    photo: PhotoSpec | None = None  # [horizon] photo: a panorama or fisheye shot (survey/photo/)
 
     def __post_init__(self):
         if self.mount.at is None:
@@ -175,7 +177,8 @@ def site_from_dict(doc: dict, path: Path) -> Site:
         t.number("scan_half_angle_deg", None, 0.0, 180.0, positive=True),
     )
 
-    h = Table(doc.get("horizon", {}), "horizon", problems, ("reference", "points", "file", "measured_height_m"))
+    h = Table(doc.get("horizon", {}), "horizon", problems, ("reference", "points", "file", "measured_height_m",
+                                                                 "photo"))
     reference = h.text("reference", "true", choices=REFERENCES)
     measured_height = h.number("measured_height_m", None, 0.0, 500.0)
     if measured_height is not None and "east_m" not in m.data and "north_m" not in m.data:
@@ -195,6 +198,7 @@ def site_from_dict(doc: dict, path: Path) -> Site:
         p = parse_point(raw, f"horizon.points[{i}]", problems)
         if p is not None:
             points.append(p)
+    photo = photo_from_horizon_table(h.data.get("photo"), path, problems)
     hfile = h.text("file", "")
     if hfile:
         try:
@@ -239,7 +243,7 @@ def site_from_dict(doc: dict, path: Path) -> Site:
 
     problems.raise_if_any()
     return Site(name, lat, lon, elev, mount, terminal, HorizonProfile(tuple(points), reference),
-                criteria, schedule, window, survey, path, plan, measured_height)
+                criteria, schedule, window, survey, path, plan, measured_height, photo)
 
 
 def _mount_at(m: Table, problems: Problems) -> tuple[float, float] | None:

@@ -33,7 +33,7 @@ _KEY_ORDER = {
     "site": ("name", "latitude", "longitude", "elevation_m"),
     "mount": ("kind", "height_m", "east_m", "north_m"),
     "terminal": ("min_elevation_deg", "tilt_deg", "tilt_azimuth_deg", "scan_half_angle_deg"),
-    "horizon": ("reference", "measured_height_m", "points", "file"),
+    "horizon": ("reference", "measured_height_m", "points", "file", "photo"),
     "survey": ("surveyor", "organisation", "customer", "notes", "date"),
 }
 _REVISION = re.compile(r"^(?P<base>.*?)\.rev(?P<n>[0-9]+)$")  # horizon.rev3 (csv_revision_name)
@@ -431,6 +431,8 @@ def site_toml(site: Site, base: dict | None = None, preamble: str = "", *, path:
     base = base or {}
     path = Path(path) if path is not None else (site.path or Path("site.toml"))
     tables = _from_site(site, base)
+    if site.photo is not None:  # [horizon] photo, its file relative to the folder written to
+        tables["horizon"] = _ordered("horizon", {**tables.get("horizon", {}), "photo": site.photo.as_table(path.parent)}, base)
     from_site = _kept_from_site(site)
     for name in KEPT_AS_WRITTEN:
         if name in base and _base_reads_same(site, base, name, path):

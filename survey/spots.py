@@ -211,7 +211,19 @@ def site_scene(site, declination_deg: float, plan: Plan | None = None) -> tuple[
     points = site.horizon.to_true(declination_deg).points
     skylines, far = measured_obstacles(points, site.horizon_height_m)  # seen from where they were measured
     far_deg = HorizonMask.from_points(far).elevation_at(AZIMUTHS_DEG) if far else np.zeros(360)
+    if site.photo is not None:  # a photo's skyline has no distances: far away, the same at every spot
+        far_deg = np.maximum(far_deg, photo_by_degree(site, declination_deg))
     return compile_plan(plan.with_skylines(skylines)), far_deg
+
+
+def photo_by_degree(site, declination_deg: float) -> np.ndarray:
+    """The site photo's skyline at azimuths 0..359, each the highest of its
+    points within half a degree (so a 1.5° mast is not lost between degrees)."""
+    from .photo import photo_skyline
+
+    sky = photo_skyline(site.photo, declination_deg if site.horizon.reference == "magnetic" else 0.0)
+    el = np.where(sky.covered, sky.el_deg, 0.0)  # points every 0.5°, from 0°
+    return np.maximum.reduce([el[0::2], el[1::2], np.roll(el[1::2], 1)])
 
 
 class SpotEvaluator:

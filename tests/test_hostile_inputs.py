@@ -329,3 +329,81 @@ def test_tle_day_of_year_999_is_refused():
     text = l1 + str(tle_checksum(l1 + "0")) + "\n" + l2 + str(tle_checksum(l2 + "0")) + "\n"
     problems = only_our_error(parse_elements, text, "x.tle")
     assert problems and "line 1: epoch day of year '999.50000000' is outside 1 to 366" in problems[0]
+
+
+# ------------------------------------------------------------------ horizon photos (survey/photo/)
+def _photo_seed() -> bytes:
+    """A small 2:1 panorama as JPEG: sky above a dark band (the reader's seed)."""
+    import io
+
+    import numpy as np
+    from PIL import Image
+
+    img = np.zeros((32, 64, 3), np.uint8)
+    img[:] = (80, 140, 230)
+    img[12:] = (40, 60, 30)
+    buf = io.BytesIO()
+    Image.fromarray(img).save(buf, format="JPEG", quality=90)
+    return buf.getvalue()
+
+
+PHOTO_SEED = _photo_seed()
+
+
+def _read_photo_and_skyline(path):
+    from survey.photo import PhotoSpec, photo_skyline
+    from survey.photo.read import read_photo
+
+    read_photo(path)
+    return photo_skyline(PhotoSpec(path, "equirect", 0.0))
+
+
+def test_photo_seed_is_accepted(tmp_path):
+    path = tmp_path / "seed.jpg"
+    path.write_bytes(PHOTO_SEED)
+    sky = _read_photo_and_skyline(path)
+    assert sky.covered.all() and 20.0 <= float(sky.el_deg.mean()) <= 25.0
+
+
+@FUZZ
+@given(spliced(PHOTO_SEED.decode("latin-1")))
+def test_photo_reader(tmp_path_factory, text):
+    from survey.photo.read import read_photo
+
+    path = tmp_path_factory.mktemp("photo") / "p.jpg"
+    path.write_bytes(text.encode("latin-1", errors="replace"))
+    only_our_error(read_photo, path)
+
+
+@FUZZ
+@given(st.integers(0, len(PHOTO_SEED)), st.integers(0, len(PHOTO_SEED) - 1), st.integers(1, 255))
+def test_photo_reader_truncated_or_flipped(tmp_path_factory, cut, at, flip):
+    from survey.photo.read import read_photo
+
+    data = bytearray(PHOTO_SEED)
+    data[at] ^= flip
+    path = tmp_path_factory.mktemp("photo") / "p.jpg"
+    path.write_bytes(bytes(data[:cut]))
+    only_our_error(read_photo, path)
+
+
+PHOTO_SITE = MINIMAL_SITE + ('\n[horizon]\nreference = "magnetic"\n'
+                             'photo = { file = "p.jpg", projection = "fisheye", bearing = 15, lens = "equisolid", '
+                             'circle = [32, 16, 14] }\n')
+
+
+def test_photo_site_seed_is_accepted(tmp_path):
+    (tmp_path / "p.jpg").write_bytes(PHOTO_SEED)
+    (tmp_path / "site.toml").write_text(PHOTO_SITE, encoding="utf-8")
+    site = load_site(tmp_path / "site.toml")
+    assert site.photo.projection == "fisheye" and site.photo.circle == (32.0, 16.0, 14.0)
+
+
+@FUZZ
+@given(spliced(PHOTO_SITE))
+def test_site_file_with_a_photo_reader(tmp_path_factory, text):
+    folder = tmp_path_factory.mktemp("site")
+    (folder / "p.jpg").write_bytes(PHOTO_SEED)
+    path = folder / "site.toml"
+    path.write_text(text, encoding="utf-8", errors="surrogatepass")
+    only_our_error(load_site, path)

@@ -50,6 +50,8 @@ def site_document(site: Site) -> dict:
         doc["survey"] = dict(site.survey)
     if site.plan is not None:
         doc["plan"] = plan_tables(site.plan)
+    if site.photo is not None:  # the photo by its absolute path: making the report again needs that file
+        doc["horizon"]["photo"] = dict(site.photo.as_table(Path(".")), file=Path(site.photo.file).resolve().as_posix())
     return doc
 
 

@@ -100,6 +100,9 @@ def report_model(run: SiteRun,
                         f"For reference, the WMM2025 declination here is {dec:+.2f}°.")
     if not s.horizon.points:
         bearing_note = "No horizon points were measured: the sky is taken as clear to the horizon."
+    photo = photo_section(run)
+    if photo is not None and not s.horizon.points:
+        bearing_note = "No horizon points were measured: the horizon is the photo's skyline."
 
     return {
         "report": {"kind": REPORT_KIND, "version": REPORT_VERSION, "id": rid,
@@ -114,6 +117,7 @@ def report_model(run: SiteRun,
         "spots": spots_section(run, ranking) if ranking is not None else None,
         "outages": {"count": len(a.outages), "rows": outage_rows, "longest_first": len(o["events"]) > len(events)},
         "horizon": {"note": bearing_note, "rows": horizon_rows},
+        "photo": photo,
         "notes": sv.get("notes", ""),
         "warnings": list(run.warnings),
         "method": method_text(run),
@@ -121,6 +125,32 @@ def report_model(run: SiteRun,
         "safety": list(notes_for(s.mount.kind)),
         "result": result,
         "inputs": inputs,
+    }
+
+
+def photo_section(run: SiteRun) -> dict | None:
+    """What the report says of a horizon photo (None without one): where the
+    horizon came from, the projection and the bearing, the threshold."""
+    s = run.site
+    if s.photo is None:
+        return None
+    from ..mask import site_photo_skyline
+
+    sky = site_photo_skyline(s, run.declination)
+    ph = s.photo
+    ref = "compass" if s.horizon.reference == "magnetic" else "true"
+    where = "its centre column" if ph.projection == "equirect" else "the top of the image"
+    bearing = (f"{azimuth(ph.bearing_deg)} ({ref}) at {where}" if ph.bearing_deg is not None
+               else f"from the photo's own heading ({ref}) at {where}")
+    projection = ("equirectangular panorama (360° x 180°)" if ph.projection == "equirect"
+                  else f"fisheye looking straight up, {ph.lens} lens")
+    covered = pct(float(sky.covered.mean()))
+    return {
+        "file": ph.file.name, "projection": projection, "bearing": bearing,
+        "text": (f"The horizon came from a photo taken at the mount: {ph.file.name}, {projection}, bearing "
+                 f"{bearing}. Its skyline (Otsu threshold {sky.threshold} on the blue channel, the sky connected "
+                 f"to the zenith) covers {covered} of the azimuths; the mask is the higher of it and the "
+                 "measured points. Check the skyline against the view before relying on it."),
     }
 
 
@@ -166,6 +196,8 @@ FIGURE_CAPTIONS = {
                 "density behind the measured skyline. Marked points are the measurements.",
     "timeline": "When the drop-outs happen: one row per day (UTC), dark bars are time the link is down "
                 "under the scheduling model.",
+    "photo": "The photo taken at the mount, unrolled like the panorama: the skyline found in it in yellow, "
+             "satellite tracks over the sky (blue clear, orange blocked), the dashed minimum elevation.",
     "plan": "The site from above, north up: obstacles to scale with their heights, candidate spots coloured "
             "by blocked fraction, the best spot starred.",
 }

@@ -230,6 +230,9 @@ def render_pdf(model: dict, figures: dict, paper: str, captions: dict) -> bytes:
     pdf.heading("Sky view")
     pdf.figure(figures["sky"], min(112.0, pdf.epw), captions["sky"])
     pdf.figure(figures["panorama"], pdf.epw, captions["panorama"])
+    if "photo" in figures and model.get("photo"):
+        pdf.para(model["photo"]["text"])
+        pdf.figure(figures["photo"], pdf.epw, captions["photo"])
 
     pdf.heading("Obstructions, costliest first")
     if model["sectors"]:

@@ -28,6 +28,10 @@ def report_figures(run: SiteRun, ranking=None) -> dict:
     }
     if ranking is not None:
         figures["plan"] = fig.spots_plan_figure(run, ranking)
+    if run.site.photo is not None:
+        from ..figures.photo import photo_panorama_for_run
+
+        figures["photo"] = photo_panorama_for_run(run)
     return figures
 
 

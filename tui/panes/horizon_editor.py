@@ -18,7 +18,7 @@ from textual.containers import Horizontal, Vertical
 from textual.message import Message
 from textual.widgets import DataTable, Input, Label, Static
 
-from survey.api import HorizonPoint, HorizonProfile, Problems, measured_mask, parse_point
+from survey.api import HorizonPoint, HorizonProfile, Problems, combined_mask, measured_mask, parse_point
 
 from ..widgets.phrases import Phrases
 from ..widgets.profile import HorizonProfile as ProfilePreview
@@ -115,6 +115,7 @@ class HorizonEditor(Vertical):
         self.min_elevation_deg = 25.0
         self.editing: int | None = None  # row being changed through the entry
         self._undo: list[HorizonProfile] = []
+        self.photo: tuple | None = None  # (true az, el) of the site's photo skyline, under the points
 
     def compose(self) -> ComposeResult:
         with Horizontal(id="horizon-body"):
@@ -150,6 +151,14 @@ class HorizonEditor(Vertical):
         if deg == self.min_elevation_deg:
             return
         self.min_elevation_deg = deg
+        self._refresh_preview()
+
+    def set_photo(self, photo: tuple | None) -> None:
+        """The site's horizon photo skyline ((true azimuths, elevations) or None),
+        drawn under the measured points; the points stay editable over it."""
+        if photo is None and self.photo is None:
+            return
+        self.photo = photo
         self._refresh_preview()
 
     def true_points(self) -> tuple[HorizonPoint, ...]:
@@ -193,9 +202,11 @@ class HorizonEditor(Vertical):
         preview = self.query_one("#profile", ProfilePreview)
         trues = self.true_points()
         mask = measured_mask(self.profile, self.declination_deg)  # the engine's own mask of these points
+        if self.photo is not None:  # the engine's max(measured, photo)
+            mask = combined_mask(mask, *self.photo)
         table = self.query_one("#points", DataTable)
         cursor_az = trues[table.cursor_row].azimuth_deg if trues and 0 <= table.cursor_row < len(trues) else None
-        preview.show(mask, trues, min_elevation_deg=self.min_elevation_deg, cursor_az=cursor_az)
+        preview.show(mask, trues, min_elevation_deg=self.min_elevation_deg, cursor_az=cursor_az, photo=self.photo)
 
     def on_descendant_focus(self, event) -> None:
         if event.widget.id == "entry":

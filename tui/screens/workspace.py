@@ -18,7 +18,7 @@ from textual.containers import Vertical
 from textual.screen import Screen
 from textual.widgets import Footer, ProgressBar, TabbedContent, TabPane
 
-from survey.api import InputError, read_horizon_csv
+from survey.api import InputError, read_horizon_csv, site_photo_skyline
 
 from ..fields import apply_fields, new_site_defaults
 from ..panes.findings import FindingsPane
@@ -235,6 +235,8 @@ class Workspace(Screen):
         self._findings.show_run(run)
         self.query_one(SkyView).show_run(run)
         self._spots.show_run(run)
+        photo = site_photo_skyline(run.site, run.declination)
+        self._editor.set_photo(None if photo is None else (photo.az_deg, photo.el_deg))
         if run.site.horizon.reference == "magnetic":
             self.set_declination(run.declination.declination_deg, "; ".join(run.declination.warnings))
 

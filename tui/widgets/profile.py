@@ -32,6 +32,7 @@ __all__ = ["horizon_profile", "HorizonProfile", "MIN_WIDTH", "MIN_HEIGHT", "GUTT
 
 EIGHTHS = " \u2581\u2582\u2583\u2584\u2585\u2586\u2587\u2588"  # ' ' ▁ ▂ ▃ ▄ ▅ ▆ ▇ █
 POINT = "\u25cf"  # ●
+PHOTO = "\u2592"  # ▒ a full cell of obstruction that only the photo's skyline makes
 MIN_LINE = "\u2504"  # ┄
 CURSOR = "\u25b2"  # ▲
 CURSOR_COLUMN = "\u250a"  # ┊
@@ -42,6 +43,7 @@ _CEILINGS = (10.0, 15.0, 20.0, 30.0, 45.0, 60.0, 90.0)
 
 _STYLE = {
     "fill": GREY,
+    "photo": GREY,
     "point": "bold",
     "min": None,  # render.py draws it black: the terminal's own foreground
     "cursor": "bold",
@@ -106,7 +108,7 @@ def _fmt_deg(v: float) -> str:
 
 def horizon_profile(mask_az_deg, mask_el_deg, width: int, height: int, points=(),
                     colour: bool = True, cursor_az=None, min_elevation_deg=None,
-                    top_deg=None) -> Text:
+                    top_deg=None, photo_az_deg=None, photo_el_deg=None) -> Text:
     """The horizon profile as ``width`` x ``height`` character cells.
 
     Parameters (degrees, true azimuths):
@@ -119,6 +121,10 @@ def horizon_profile(mask_az_deg, mask_el_deg, width: int, height: int, points=()
       cursor_az: the highlighted azimuth (the selected table row), or None.
       min_elevation_deg: the terminal's minimum elevation (dashed line), or None.
       top_deg: the elevation axis ceiling; None picks one from the data.
+      photo_az_deg, photo_el_deg: a horizon photo's skyline (true azimuths):
+        the columns where it rises above ``points_mask`` are drawn in ``▒``
+        under the eighth blocks' top, so what the photo adds reads apart from
+        what was measured (``mask_*`` is then the combined mask).
 
     From 20 x 5 cells up (below: a short "enlarge the window" message).  The
     layout is in the module docstring.
@@ -149,6 +155,12 @@ def horizon_profile(mask_az_deg, mask_el_deg, width: int, height: int, points=()
     ch = np.full((height, width), " ", dtype="<U1")
     ch[:P, GUTTER:] = glyphs
     cv.fill(full, ch, st("fill"))
+    if photo_az_deg is not None and len(photo_az_deg):
+        photo_h = column_heights(photo_az_deg, photo_el_deg, pc)
+        by_photo = (photo_h >= heights - 1e-6) & (photo_h > 0)
+        shade = np.zeros((height, width), dtype=bool)
+        shade[:P, GUTTER:] = (k == 8) & by_photo[None, :]
+        cv.fill(shade, np.full((height, width), PHOTO, dtype="<U1"), st("photo"))
 
     def row_of(el):
         """Plot row whose span holds elevation ``el`` (the top row for the ceiling)."""
@@ -239,6 +251,8 @@ def horizon_profile(mask_az_deg, mask_el_deg, width: int, height: int, points=()
     # ---- legend --------------------------------------------------------------------
     if legend:
         items = [("\u2588", "fill", "obstruction", "obstacle")]  # short forms are whole words too
+        if photo_az_deg is not None and len(photo_az_deg):
+            items.append((PHOTO, "photo", "photo", "photo"))
         if pts:
             items.append((POINT, "point", "measured", "point"))
         if me is not None:
@@ -275,11 +289,11 @@ class HorizonProfile(DrawingWidget):
 
     PLACEHOLDER = "Horizon profile: no points yet"
 
-    def show(self, mask, points=(), min_elevation_deg=None, cursor_az=None) -> None:
+    def show(self, mask, points=(), min_elevation_deg=None, cursor_az=None, photo=None) -> None:
         m_az = np.zeros(0) if mask is None else np.asarray(mask.az_deg, dtype=np.float64)
         m_el = np.zeros(0) if mask is None else np.asarray(mask.el_deg, dtype=np.float64)
         self._set_data({"m_az": m_az, "m_el": m_el, "points": _points(points),
-                        "min": min_elevation_deg, "cursor": cursor_az})
+                        "min": min_elevation_deg, "cursor": cursor_az, "photo": photo})
 
     def show_run(self, run, cursor_az=None) -> None:
         """The horizon of a ``pipeline.SiteRun``: its true-azimuth mask, the
@@ -298,4 +312,6 @@ class HorizonProfile(DrawingWidget):
         d = self._data
         return horizon_profile(d["m_az"], d["m_el"], width, height, points=d["points"],
                                colour=colour, cursor_az=d["cursor"],
-                               min_elevation_deg=d["min"])
+                               min_elevation_deg=d["min"],
+                               photo_az_deg=None if d.get("photo") is None else d["photo"][0],
+                               photo_el_deg=None if d.get("photo") is None else d["photo"][1])
