@@ -227,3 +227,32 @@ def _canyon(p: Table, problems: Problems) -> Canyon | None:
         return None
     h, w = p.number("canyon_height_m", None, 0.0, 300.0), p.number("canyon_width_m", None, 1.0, 500.0)
     return None if h is None or w is None else Canyon("own", h, w)
+
+
+def platform_table(p: Platform, folder: Path | None = None) -> dict:
+    """The ``[platform]`` table that reads back as ``p`` (the site writer uses it
+    when the file's own table no longer does)."""
+    out: dict = {}
+    if p.heading_mode == "fixed":
+        out["heading_deg"] = p.heading_deg
+    elif p.heading_mode == "histogram":
+        out["headings"] = list(p.histogram)
+    elif p.heading_mode == "uniform":
+        out["headings"] = "uniform"
+    elif p.route is not None:
+        src = Path(p.route.source)
+        out["route"] = src.name if folder is not None and src.parent == folder else str(src)
+    a = p.attitude
+    if a.heel_deg:
+        out["heel_deg"] = a.heel_deg
+    if a.name:
+        out["sea_state"] = a.name
+    elif a.roll_deg or a.pitch_deg:
+        out.update(roll_deg=a.roll_deg, roll_period_s=a.roll_period_s, pitch_deg=a.pitch_deg,
+                   pitch_period_s=a.pitch_period_s, sea=a.sea)
+    if p.canyon is not None:
+        if p.canyon.name in CANYONS:
+            out["canyon"] = p.canyon.name
+        else:
+            out.update(canyon_height_m=p.canyon.height_m, canyon_width_m=p.canyon.width_m)
+    return out
