@@ -28,6 +28,11 @@ def report_figures(run: SiteRun, ranking=None) -> dict:
     }
     if ranking is not None:
         figures["plan"] = fig.spots_plan_figure(run, ranking)
+    if run.platform is not None:  # a vehicle or vessel (survey/platform/)
+        if run.platform.platform.route is None:
+            figures["heading"] = fig.heading_chart_for_run(run, size_px=1200)
+        else:
+            figures["route"] = fig.route_map_for_run(run)
     return figures
 
 
