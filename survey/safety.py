@@ -21,7 +21,7 @@ FIXED = (
 )
 VEHICLE = (
     "Check the roof or rack load rating (static and dynamic) and secure the mount for highway speeds.",
-    "Note the new vehicle height for bridges, car parks and garages.",
+    "Note the new clearance height (vehicle plus terminal) for bridges, car parks and garages.",
     "Never mount or adjust a terminal while the vehicle is moving; route cables away from airbags.",
     "The terminal and mount maker's instructions, the vehicle maker's rules and local road codes come first.",
 )
