@@ -132,12 +132,23 @@ def by_heading(tracks: SkyTracks, site: Site, mask: HorizonMask, pitch, roll) ->
     """Blocked fraction and availability with the platform held at the centre of
     each of the 36 heading sectors."""
     rows = []
+    level = pitch is None and roll is None and site.terminal.scan_half_angle_deg is None
+    if level:  # the same arithmetic as in_body, on samples sorted by azimuth (np.interp runs far faster)
+        order = np.argsort(tracks.az_deg, kind="stable")
+        az, el, t = tracks.az_deg[order].astype(np.float64), tracks.el_deg[order], tracks.time_index[order]
     for j in range(SECTORS):
         h = (j + 0.5) * 360.0 / SECTORS
-        body = in_body(tracks, site, np.full(tracks.count, h), pitch, roll)
-        blocked = body.el_deg < mask.elevation_at(body.az_deg) if not mask.is_clear else np.zeros(len(body), bool)
-        bf = float(blocked.mean()) if len(body) else None
-        rows.append(HeadingRow(h, bf, availability_of(body, blocked)))
+        if level:
+            az_b = (az - h) % 360.0
+            blocked = el < mask.elevation_at(az_b) if not mask.is_clear else np.zeros(az.size, bool)
+            avail = float((np.bincount(t[~blocked], minlength=tracks.count) > 0).mean()) if tracks.count else 0.0
+            bf = float(blocked.mean()) if az.size else None
+        else:
+            body = in_body(tracks, site, np.full(tracks.count, h), pitch, roll)
+            blocked = body.el_deg < mask.elevation_at(body.az_deg) if not mask.is_clear else np.zeros(len(body), bool)
+            bf = float(blocked.mean()) if len(body) else None
+            avail = availability_of(body, blocked)
+        rows.append(HeadingRow(h, bf, avail))
     return rows
 
 
@@ -165,8 +176,11 @@ def assess_platform(site: Site, window: WindowSpec, tracks: SkyTracks, measured:
     if site.mount.kind == "marine":
         for name, preset in SEA_STATES.items():
             att = replace(preset, heel_deg=p.attitude.heel_deg)
-            sp, sr = attitude_series(att, t_s)
-            a = Evaluator(in_body(tracks, site, headings, sp, sr), site.criteria, site.schedule).assess(mask)
+            if att == p.attitude:  # the site's own sea state: the run above
+                a = result
+            else:
+                sp, sr = attitude_series(att, t_s)
+                a = Evaluator(in_body(tracks, site, headings, sp, sr), site.criteria, site.schedule).assess(mask)
             run.sea_states.append(SeaRow(name, a.blocked_fraction, a.availability, a.interruption))
     return body, mask, evaluator, result, run
 
