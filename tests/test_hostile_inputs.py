@@ -373,3 +373,30 @@ def test_platform_table_reader(tmp_path_factory, text):
     path = folder / "site.toml"
     path.write_text(text, encoding="utf-8", errors="surrogatepass")
     only_our_error(load_site, path)
+
+
+REPORT_WITH_ROUTE = json.dumps({
+    "report": {"kind": "leosite-site-report"},
+    "inputs": {"site": {"site": {"name": "Seed boat", "latitude": 45.3, "longitude": -72.6},
+                        "mount": {"kind": "marine", "height_m": 2.0},
+                        "horizon": {"frame": "body", "points": [[80, 30, "arch"], [100, 30]]},
+                        "platform": {"heel_deg": 5.0}},
+               "fleet": {"kind": "default"},
+               "route": {"source": "seed.gpx", "times_s": [1780272000, 1780272300, 1780272600],
+                         "latitude_deg": [45.30, 45.31, 45.32], "longitude_deg": [-72.60, -72.58, -72.56],
+                         "elevation_m": [2.0, None, 3.0]}}})
+
+
+def test_the_report_with_a_route_seed_is_accepted(tmp_path):
+    path = tmp_path / "r.json"
+    path.write_text(REPORT_WITH_ROUTE, encoding="utf-8")
+    saved = load_report_inputs(path)
+    assert saved.site.platform.heading_mode == "route" and len(saved.site.platform.route.times_s) == 3
+
+
+@FUZZ
+@given(spliced(REPORT_WITH_ROUTE))
+def test_report_json_route_reader(tmp_path_factory, text):
+    path = tmp_path_factory.mktemp("rr") / "r.json"
+    path.write_text(text, encoding="utf-8", errors="surrogatepass")
+    only_our_error(load_report_inputs, path)

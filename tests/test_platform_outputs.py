@@ -136,3 +136,22 @@ def test_reports_carry_the_platform_section_and_the_safety_notes(tmp_path, sloop
         assert words in body, words
     doc = json.loads(write_report(camper_run, tmp_path / "camper.json").read_text(encoding="utf-8"))
     assert len(doc["result"]["platform"]["by_heading"]) == 36
+
+
+def test_a_route_report_json_runs_again_with_no_other_file(tmp_path):
+    """README, "The site report": the JSON carries every input; for a vessel on a
+    route that includes the route itself, so the GPX file is not needed again."""
+    import shutil
+
+    folder = tmp_path / "boat"
+    shutil.copytree(DEMO / "tern-sloop", folder)
+    first = tmp_path / "first.json"
+    assert leosite("report", folder / "site.toml", "--out", first, "--hours", "2", "--step", "60").returncode == 0
+    shutil.rmtree(folder)
+    again = tmp_path / "again.json"
+    out = leosite("report", first, "--out", again)
+    assert out.returncode == 0, out.stderr
+    a, b = (json.loads(p.read_text(encoding="utf-8"))["result"] for p in (first, again))
+    for key in ("blocked_fraction", "availability", "interruption", "outages"):
+        assert a[key] == b[key], key
+    assert a["platform"]["route"]["events"] == b["platform"]["route"]["events"]

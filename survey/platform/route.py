@@ -71,6 +71,12 @@ def read_route(path: Path) -> Route:
         lon.append(lo)
         e = _number(pt.elevation)
         ele.append(e if e is not None and -500.0 <= e <= 9000.0 else None)
+    return checked_route(where, times, lat, lon, ele)
+
+
+def checked_route(where: str, times: list, lat: list, lon: list, ele: list) -> Route:
+    """A Route from timed points already in range: at least two, times increasing;
+    warnings for gaps and implausible speeds."""
     if len(times) < 2:
         raise InputError(f"{where}: a single track point: a route needs at least two timed points")
     t = np.array(times)
@@ -97,6 +103,37 @@ def read_route(path: Path) -> Route:
         warnings.append(f"route {Path(where).name}: the track never moves: the heading is taken as 0° (north); "
                         "give platform.heading_deg instead")
     return Route(where, tuple(times), tuple(lat), tuple(lon), tuple(ele), tuple(warnings))
+
+
+def route_from_json(where: str, doc) -> Route:
+    """A route embedded in a report JSON (``report.inputs``): the same checks as a GPX file's."""
+    if not isinstance(doc, dict):
+        raise InputError(f"{where}: inputs.route: expected an object")
+    cols = [doc.get(k) for k in ("times_s", "latitude_deg", "longitude_deg", "elevation_m")]
+    if not all(isinstance(c, list) for c in cols) or len({len(c) for c in cols}) != 1:
+        raise InputError(f"{where}: inputs.route: expected lists times_s, latitude_deg, longitude_deg, "
+                         "elevation_m of one length")
+    if len(cols[0]) > MAX_ROUTE_POINTS:
+        raise InputError(f"{where}: inputs.route: more than the limit of {MAX_ROUTE_POINTS:,} points")
+    times, lat, lon, ele = [], [], [], []
+    for i, (t, la, lo, e) in enumerate(zip(*cols), start=1):
+        t, la, lo = _number(t), _number(la), _number(lo)
+        if t is None or la is None or lo is None or not (-90 <= la <= 90 and -180 <= lo <= 180 and abs(t) < 1e11):
+            raise InputError(f"{where}: inputs.route: point {i}: expected a time and coordinates on the globe")
+        e = _number(e)
+        times.append(t)
+        lat.append(la)
+        lon.append(lo)
+        ele.append(e if e is not None and -500.0 <= e <= 9000.0 else None)
+    source = doc.get("source") if isinstance(doc.get("source"), str) else "route"
+    route = checked_route(where, times, lat, lon, ele)
+    return Route(source, route.times_s, route.latitude_deg, route.longitude_deg, route.elevation_m, route.warnings)
+
+
+def route_json(route: Route) -> dict:
+    """The route as report.inputs carries it (read back by route_from_json)."""
+    return {"source": route.source, "times_s": list(route.times_s), "latitude_deg": list(route.latitude_deg),
+            "longitude_deg": list(route.longitude_deg), "elevation_m": list(route.elevation_m)}
 
 
 def _number(x) -> float | None:
