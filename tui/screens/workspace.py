@@ -134,6 +134,7 @@ class Workspace(Screen):
                 form.prefill(key, text)
         self.show_refused()
         if site is not None:
+            editor.body_frame = site.platform is not None and site.platform.frame == "body"
             editor.load(site.horizon, *declination)
             editor.set_min_elevation(site.terminal.min_elevation_deg)
         else:
