@@ -49,6 +49,7 @@ def test_a_vehicle_and_a_vessel_open_in_the_app(tmp_path, name):
     async def go():
         async with app.run_test(size=(120, 50)) as pilot:
             await until(pilot, lambda: app.workspace.query_one("#findings-body").display, 60, "findings")
+            await pilot.pause(1.0)  # a Select set on load reports a change; let the form settle (0.5 s)
             platform = shown_text(app.workspace.query_one("#platform"))
             editor = app.workspace.query_one(HorizonEditor)
             return platform, editor.body_frame, shown_text(app.workspace.query_one("#figures"))
@@ -61,3 +62,39 @@ def test_a_vehicle_and_a_vessel_open_in_the_app(tmp_path, name):
         assert "Blocked by heading" in platform and "all headings equally likely" in platform
     else:
         assert "Along the route" in platform and "moderate" in platform
+
+
+def test_platform_fields_are_checked_by_the_site_reader(tmp_path):
+    from tui.fields import parse_field
+
+    assert parse_field("platform.heading_deg", "400")[1] == "400.0 is outside 0.0 to 360.0"
+    assert parse_field("platform.heading_deg", "")[:2] == (None, None)  # blank: all headings, or the route
+    assert "outside -45.0 to 45.0" in parse_field("platform.heel_deg", "60")[1]
+    problem = parse_field("platform.route", "nowhere.gpx", tmp_path)[1]
+    assert problem and "not found" in problem
+    (tmp_path / "r.gpx").write_text("<gpx><trk><trkseg></trkseg></trk></gpx>", encoding="utf-8")
+    assert "no track points" in parse_field("platform.route", "r.gpx", tmp_path)[1]
+    assert parse_field("platform.sea_state", "rough")[:2] == ("rough", None)
+
+
+def test_a_heading_typed_on_the_site_tab_is_saved_and_assessed(tmp_path):
+    site_file = demo_copy(tmp_path, "wren-camper")
+    app = app_for(site_file, tmp_path)
+
+    async def go():
+        async with app.run_test(size=(120, 50)) as pilot:
+            await until(pilot, lambda: app.workspace.query_one("#findings-body").display, 60, "findings")
+            await pilot.pause(1.0)
+            app.workspace.query_one("#f-platform-heading_deg").value = "90"
+            await until(pilot, lambda: "heading_deg = 90" in site_file.read_text(encoding="utf-8"), 60, "saved")
+            await until(pilot, lambda: "fixed heading 90°" in shown_text(app.workspace.query_one("#platform")),
+                        60, "re-assessed")
+            await pilot.pause(1.0)
+            return shown_text(app.workspace.query_one("#figures"))
+
+    figures = drive(go())
+    saved = load_site(site_file)
+    assert saved.platform.heading_mode == "fixed" and saved.platform.heading_deg == 90.0
+    assert saved.platform.canyon is not None and saved.platform.frame == "body"  # the rest of the table kept
+    run = run_site(saved, hours=HOURS)
+    assert pct(run.assessment.blocked_fraction, 2) in figures

@@ -160,6 +160,7 @@ class Workspace(Screen):
             self.set_status(state=f"stale: fix {form.first_problem_label()}", saved="unsaved")
             return None
         site = apply_fields(form.values, base, path)  # as the fields read now (a chosen spot reloads them)
+        self._editor.body_frame = site.platform is not None and site.platform.frame == "body"
         return replace(site, horizon=self._editor.profile)
 
     def refused_fields(self) -> list[tuple[str, str]]:
