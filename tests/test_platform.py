@@ -221,3 +221,33 @@ def test_sea_states_table_for_a_vessel(tmp_path):
     calm = run.platform.sea_states[0]
     assert calm.blocked_fraction == pytest.approx(run.assessment.blocked_fraction, abs=0.01)
     assert run.platform.sea_states[2].availability <= calm.availability + 1e-9
+
+
+def test_a_deck_plan_ranks_spots_in_the_body_frame(tmp_path):
+    """A mast 13 m tall 6 m forward of the reference point, seen from 2.5 m above
+    the deck there: atan((13 - 2.5) / 5.9) = 60.7° dead ahead (hand trigonometry;
+    the prism's near face is 5.9 m away), and nothing astern."""
+    from survey.api import horizon_at, rank_spots
+
+    text = (HEAD.format(kind="marine", terminal="").replace("height_m = 2.2", "height_m = 2.5")
+            + "\n[platform]\nheading_deg = 0\n"
+            + '\n[[plan.prism]]\nname = "mast"\npolygon = [[-0.1, 5.9], [0.1, 5.9], [0.1, 6.1], [-0.1, 6.1]]\n'
+            + "height_m = 13.0\n"
+            + '\n[[plan.point]]\nname = "arch"\nat = [0, 0]\nheight_m = 2.5\n'
+            + '\n[[plan.point]]\nname = "at the mast"\nat = [0, 5.0]\nheight_m = 2.5\n')
+    path = tmp_path / "deck.toml"
+    path.write_text(text, encoding="utf-8")
+    site = load_site(path)
+    derived = horizon_at(site, 0.0, 0.0, 2.5)
+    assert derived["elevation_deg"][0] == pytest.approx(math.degrees(math.atan(10.5 / 5.9)), abs=0.01)
+    assert derived["elevation_deg"][180] == pytest.approx(0.0, abs=1e-9)
+    ranking = rank_spots(run_site(site, **WINDOW))
+    assert ranking.best.candidate.name == "arch"  # right under the mast is far worse
+    assert any("body frame" in w for w in ranking.warnings)
+    geo = tmp_path / "geo.toml"
+    geo.write_text(HEAD.format(kind="marine", terminal="") + '\n[platform]\nheading_deg = 0\n'
+                   '\n[plan]\nfile = "deck.geojson"\n', encoding="utf-8")
+    (tmp_path / "deck.geojson").write_text('{"type": "FeatureCollection", "features": []}', encoding="utf-8")
+    with pytest.raises(InputError) as exc:
+        load_site(geo)
+    assert any("plan.file: a GeoJSON plan is in longitude and latitude" in p for p in exc.value.problems)

@@ -150,6 +150,10 @@ def platform_from_site(doc: dict, path: Path, problems: Problems) -> Platform | 
         elif horizon.get("reference", "true") != "true":
             problems.add("horizon.reference", "does not apply to body-frame bearings (they are taken from the "
                                               "bow or the front, not from north): remove it")
+    plan = doc.get("plan") if isinstance(doc.get("plan"), dict) else {}
+    if str(plan.get("file", "")).lower().endswith((".geojson", ".json")):
+        problems.add("plan.file", "a GeoJSON plan is in longitude and latitude; a vehicle's or vessel's plan is "
+                                  "in metres to starboard (east_m) and forward (north_m): use a TOML plan")
     p = Table(doc["platform"], "platform", problems, PLATFORM_KEYS)
     given = [k for k in ("heading_deg", "headings", "route") if k in p.data]
     if len(given) > 1:
