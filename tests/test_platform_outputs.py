@@ -155,3 +155,9 @@ def test_a_route_report_json_runs_again_with_no_other_file(tmp_path):
     for key in ("blocked_fraction", "availability", "interruption", "outages"):
         assert a[key] == b[key], key
     assert a["platform"]["route"]["events"] == b["platform"]["route"]["events"]
+
+
+def test_the_text_ui_refuses_heading_on_its_command_line():
+    out = subprocess.run([sys.executable, "-c", "import sys; from tui.launch import main; sys.exit(main())", "ui",
+                          str(CAMPER), "--heading", "90"], capture_output=True, text=True, timeout=120)
+    assert out.returncode == 2 and "--heading: not for the text UI" in out.stderr and "Traceback" not in out.stderr
