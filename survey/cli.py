@@ -217,7 +217,8 @@ def format_summary(run: SiteRun) -> str:
     sky = f"above {s.terminal.min_elevation_deg:g}°"
     if s.terminal.scan_half_angle_deg:
         sky += (f", within {s.terminal.scan_half_angle_deg:g}° of a boresight tilted "
-                f"{s.terminal.tilt_deg:g}° toward {s.terminal.tilt_azimuth_deg:g}°")
+                f"{s.terminal.tilt_deg:g}° toward {s.terminal.tilt_azimuth_deg:g}°"
+                + (" from the bow" if s.platform is not None else ""))
     lines = [
         f"{s.name}",
         f"  at {abs(s.latitude_deg):.5f}°{ns} {abs(s.longitude_deg):.5f}°{ew}, ground {s.elevation_m:g} m",

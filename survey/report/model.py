@@ -66,7 +66,8 @@ def report_model(run: SiteRun,
     fov = "none set: all sky above the minimum elevation"
     if s.terminal.scan_half_angle_deg is not None:
         fov = (f"cone of {elevation(s.terminal.scan_half_angle_deg)} half-angle around a boresight tilted "
-               f"{elevation(s.terminal.tilt_deg)} toward {azimuth(s.terminal.tilt_azimuth_deg)} (true)")
+               f"{elevation(s.terminal.tilt_deg)} toward {azimuth(s.terminal.tilt_azimuth_deg)} "
+               + ("(from the bow; fixed to the deck)" if s.platform is not None else "(true)"))
     setup = [
         ("Satellites", f"{len(run.fleet):,} from {run.fleet.source}"),
         ("Shells or groups", groups or "-"),
