@@ -15,6 +15,9 @@ from .plan import plan_figure
 from .sky import sky_plot
 from .timeline import outage_timeline
 
+BODY_FRAME_NOTE = ("Body frame of the vehicle or vessel: N marks the bow or front (azimuth clockwise from it), "
+                   "elevation above the deck")
+
 
 def _window_text(w) -> str:
     return window(w.start, w.hours, w.step_s)
@@ -38,6 +41,8 @@ def sky_plot_for_run(run, size_px: int = 1000) -> Image.Image:
              f"Verdict {a.verdict}: blocked {pct(a.blocked_fraction)}, interruption {pct(a.interruption)}"]
     if s.horizon.reference == "magnetic":
         notes.append(f"Compass bearings rotated to true north: declination {_declination_text(run)} (WMM2025)")
+    if run.platform is not None:
+        notes.append(BODY_FRAME_NOTE)
     return sky_plot(
         az_deg=t.az_deg, el_deg=t.el_deg, blocked=a.blocked, weight_s=w.step_s,
         mask_az_deg=mask_az, mask_el_deg=run.mask.elevation_at(mask_az),
@@ -66,6 +71,8 @@ def horizon_panorama_for_run(run, size=PANO_SIZE) -> Image.Image:
     sub = _window_text(w)
     if s.horizon.reference == "magnetic":
         sub += f"; compass bearings rotated {_declination_text(run)} to true north (WMM2025)"
+    if run.platform is not None:
+        sub += "; " + BODY_FRAME_NOTE[:1].lower() + BODY_FRAME_NOTE[1:]
     return horizon_panorama(
         mask_az_deg=m_az, mask_el_deg=m_el, points=points, az_deg=t.az_deg, el_deg=t.el_deg,
         blocked=run.assessment.blocked, weight_s=w.step_s,
