@@ -177,13 +177,15 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
         site = replace(site, terminal=replace(site.terminal, min_elevation_deg=float(min_elevation_deg)))
     moving = site.platform is not None
     if moving:
-        from .platform import assess_platform, platform_tracks, route_window
+        from .platform import assess_platform, platform_tracks, route_window, sky_terminal
 
         start, hours = route_window(site, start, hours)
     window = resolve_window(site, start, hours, step_s, now=now)
     observer = site_observer(site)
     source = fleet_choice.as_embedded()  # the fleet file is read here, once
-    sky = (site.terminal, site.platform) if moving else site.terminal
+    # A platform's tracks depend on its minimum elevation and route only (heading, attitude and cone are
+    # applied after), so a heel or heading edit in the text UI reuses them.
+    sky = (sky_terminal(site), site.platform.route) if moving else site.terminal
     key = TrackCache.key(source, window, observer, sky) if cache is not None else None
     fleet, tracks = cache.get(key) if cache is not None else (None, None)
     if fleet is None:

@@ -251,3 +251,19 @@ def test_a_deck_plan_ranks_spots_in_the_body_frame(tmp_path):
     with pytest.raises(InputError) as exc:
         load_site(geo)
     assert any("plan.file: a GeoJSON plan is in longitude and latitude" in p for p in exc.value.problems)
+
+
+def test_a_heel_edit_reuses_the_tracks_and_gives_a_clean_run(tmp_path):
+    """The text UI's cache (pipeline.TrackCache): a platform's tracks depend on the
+    minimum elevation and the route only; after a heel edit the cached run equals
+    a clean one."""
+    from dataclasses import replace
+
+    site = load_site(write(tmp_path, platform="heading_deg = 20", points=BODY_POINTS))
+    cache = TrackCache()
+    first = run_site(site, cache=cache, **WINDOW)
+    heeled = replace(site, platform=replace(site.platform, attitude=replace(site.platform.attitude, heel_deg=8.0)))
+    again = run_site(heeled, cache=cache, **WINDOW)
+    clean = run_site(heeled, **WINDOW)
+    assert again.fleet is first.fleet  # reused
+    assert result_dict(again) == result_dict(clean)
