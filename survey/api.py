@@ -31,6 +31,8 @@ from .geometry import cone_edge, nice_ceil, nice_floor, points_in_polygon
 from .horizon import HorizonMask, HorizonPoint, HorizonProfile, parse_point, read_horizon_csv
 from .mask import combined_mask, measured_mask, site_declination, site_mask, site_photo_skyline
 from .pipeline import FleetChoice, SiteRun, TrackCache, run_site
+from .platform import SEA_STATES, platform_from_site, platform_table
+from .platform import route_down as route_down_time
 from .report import format_for, pole_text, recommendations, write_report
 from .safety import notes_for, short_note, spot_note
 from .site import MOUNT_KINDS, Mount, Schedule, Site, Terminal, load_site, parse_time, site_from_dict
@@ -50,7 +52,8 @@ __all__ = [
     "InputError", "length", "load_site", "Mount", "MOUNT_KINDS", "NBSP", "notes_for", "obstacle_shapes",
     "palette", "parse_angle", "parse_point", "parse_time", "parse_toml", "pct", "plan_cells",
     "plan_extent_points", "pole_text", "Problems", "rank_spots", "read_horizon_csv", "read_text",
-    "recommendations", "resolve_site_path", "resolve_window", "run_site", "save_site", "Schedule",
+    "recommendations", "resolve_site_path", "route_down_time", "SEA_STATES", "platform_from_site",
+    "platform_table", "resolve_window", "run_site", "save_site", "Schedule",
     "short_note", "Site", "site_declination", "site_from_dict", "site_mask", "SiteRun", "spot_note",
     "spots_plan_inputs", "Terminal", "TrackCache", "utc", "window_start", "WindowSpec", "write_report",
 ]

@@ -132,6 +132,9 @@ def add_run_options(p) -> None:
     p.add_argument("--min-elevation", metavar="DEG", type=float,
                    help="minimum elevation in degrees; this flag, else the site's [terminal] "
                         "min_elevation_deg, else 25")
+    p.add_argument("--heading", metavar="DEG", type=float,
+                   help="vehicle or vessel held at this heading (degrees from true north) for this run, "
+                        "instead of its [platform] heading, headings or route")
 
 
 def _for_terminal(text: str) -> str:
@@ -165,6 +168,9 @@ def check_run_args(args) -> None:
         problems.add("--min-elevation", f"{args.min_elevation:g} is outside 0 to 90 degrees")
     if args.start is not None:
         args.start = parse_time(args.start, "--start", problems)
+    heading = getattr(args, "heading", None)
+    if heading is not None and not (math.isfinite(heading) and 0 <= heading <= 360):
+        problems.add("--heading", f"{heading:g} is outside 0 to 360 degrees")
     _check_plot(args, problems)
     for opt in ("shells", "tle"):
         f = getattr(args, opt)
@@ -213,7 +219,8 @@ def format_summary(run: SiteRun) -> str:
     sky = f"above {s.terminal.min_elevation_deg:g}°"
     if s.terminal.scan_half_angle_deg:
         sky += (f", within {s.terminal.scan_half_angle_deg:g}° of a boresight tilted "
-                f"{s.terminal.tilt_deg:g}° toward {s.terminal.tilt_azimuth_deg:g}°")
+                f"{s.terminal.tilt_deg:g}° toward {s.terminal.tilt_azimuth_deg:g}°"
+                + (" from the bow" if s.platform is not None else ""))
     lines = [
         f"{s.name}",
         f"  at {abs(s.latitude_deg):.5f}°{ns} {abs(s.longitude_deg):.5f}°{ew}, ground {s.elevation_m:g} m",
@@ -223,6 +230,12 @@ def format_summary(run: SiteRun) -> str:
         f"  usable sky  {sky}; {a.usable_samples} samples",
         f"  compass     declination {run.declination.declination_deg:+.2f}° (WMM2025); bearings "
         + ("magnetic, turned to true" if s.horizon.reference == "magnetic" else "true"),
+    ]
+    if run.platform is not None:
+        from .platform.text import head_lines
+
+        lines += head_lines(run.platform)
+    lines += [
         "",
         f"  VERDICT  {a.verdict.upper()}",
     ]
@@ -236,6 +249,10 @@ def format_summary(run: SiteRun) -> str:
         f"  outages        {o['count_per_day']:.1f} a day, {o['minutes_per_day']:.1f} min a day, "
         f"longest {duration(o['longest_s'])}",
     ]
+    if run.platform is not None:
+        from .platform.text import table_lines
+
+        lines += table_lines(run.platform, a, run.window)
     if a.sectors:
         lines += ["", "  obstructions, costliest first",
                   f"    {'azimuths':<16} {'peak':>5} {'share':>7} {'if cleared':>10}  labels"]
@@ -262,6 +279,10 @@ def _wrap(text: str, first: str, rest: str | None = None, width: int = 80) -> li
 
 def _run(args, site, fleet_choice: FleetChoice, quiet: bool) -> SiteRun:
     """Assess ``site`` with the command line's window overrides, a progress bar on stderr."""
+    if getattr(args, "heading", None) is not None:
+        from .platform.text import with_heading
+
+        site = with_heading(site, args.heading)
     bar = _Progress("propagating", live=sys.stderr.isatty(), quiet=quiet)
     run = run_site(site, fleet_choice, args.start, args.hours, args.step, args.min_elevation, progress=bar)
     bar.done()

@@ -8,6 +8,7 @@ import math
 from dataclasses import dataclass, field, replace
 from datetime import datetime
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from .assess import Assessment
 from .constellation import Fleet, default_fleet, parse_elements, shells_fleet
@@ -21,6 +22,9 @@ from .site import Site
 from .tracks import Observer, SkyTracks, compute_tracks
 from .window import WindowSpec, resolve_window
 from .words import length
+
+if TYPE_CHECKING:
+    from .platform import PlatformRun
 
 MAX_SAMPLE_SATELLITES = 250_000_000  # sample times x satellites in one run (README, "Limits"): bounds time and memory
 
@@ -68,6 +72,7 @@ class SiteRun:
     warnings: list[str] = field(default_factory=list)
     evaluator: Evaluator | None = None  # figures for other masks over these tracks (evaluate.py)
     fleet_source: tuple[str, str, str] = ("default", "", "")  # FleetChoice.as_embedded(), read once
+    platform: PlatformRun | None = None  # a moving install's headings, attitude and tables (survey/platform/)
 
 
 def site_observer(site: Site) -> Observer:
@@ -170,10 +175,18 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
     terminal are reused instead of computed again."""
     if min_elevation_deg is not None:
         site = replace(site, terminal=replace(site.terminal, min_elevation_deg=float(min_elevation_deg)))
+    moving = site.platform is not None
+    if moving:
+        from .platform import assess_platform, platform_tracks, route_window, sky_terminal
+
+        start, hours = route_window(site, start, hours)
     window = resolve_window(site, start, hours, step_s, now=now)
     observer = site_observer(site)
     source = fleet_choice.as_embedded()  # the fleet file is read here, once
-    key = TrackCache.key(source, window, observer, site.terminal) if cache is not None else None
+    # A platform's tracks depend on its minimum elevation and route only (heading, attitude and cone are
+    # applied after), so a heel or heading edit in the text UI reuses them.
+    sky = (sky_terminal(site), site.platform.route) if moving else site.terminal
+    key = TrackCache.key(source, window, observer, sky) if cache is not None else None
     fleet, tracks = cache.get(key) if cache is not None else (None, None)
     if fleet is None:
         fleet = FleetChoice(embedded=source).load(window.start)
@@ -183,16 +196,21 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
         raise InputError(f"window x fleet: {window.count:,} sample times x {len(fleet):,} satellites = {work:,}, more "
                          f"than the limit of {MAX_SAMPLE_SATELLITES:,}: use a coarser --step or a shorter --hours")
     if tracks is None:
-        tracks = compute_tracks(fleet, observer, window, site.terminal, progress=progress)
+        tracks = (platform_tracks(fleet, site, window, progress) if moving else
+                  compute_tracks(fleet, observer, window, site.terminal, progress=progress))
         if cache is not None:
             cache.put(key, fleet, tracks)
-    evaluator = cache.evaluator if cache is not None else None
-    if evaluator is None or evaluator.tracks is not tracks:
-        evaluator = Evaluator(tracks, site.criteria, site.schedule)
-    evaluator = evaluator.for_site(site.criteria, site.schedule)
-    if cache is not None:
-        cache.evaluator = evaluator
-    result = evaluator.assess(mask)
+    platform_run = None
+    if moving:  # the tracks turned into the body frame; the figures by the same definitions
+        tracks, mask, evaluator, result, platform_run = assess_platform(site, window, tracks, mask)
+    else:
+        evaluator = cache.evaluator if cache is not None else None
+        if evaluator is None or evaluator.tracks is not tracks:
+            evaluator = Evaluator(tracks, site.criteria, site.schedule)
+        evaluator = evaluator.for_site(site.criteria, site.schedule)
+        if cache is not None:
+            cache.evaluator = evaluator
+        result = evaluator.assess(mask)
     notes = []
     if fleet.illustrative:
         notes.append("satellites are leosite's illustrative shells, not a real constellation: "
@@ -208,14 +226,16 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
     notes.extend(photo_notes(site, dec))
     if site.mount.at is None and site.plan is None and site.photo is None:
         notes.extend(horizon_warnings(site))
-    if site.mount.kind != "fixed":
+    if moving:
+        notes.extend(platform_run.warnings)
+    elif site.mount.kind != "fixed":
         notes.append(f"mount kind '{site.mount.kind}': heading, roll and route are not modelled yet; "
                      "assessed as a fixed mount" + (" at the site point" if site.mount.at is None else ""))
     if tracks.failed_sats:
         notes.append(f"SGP4 reported errors for {tracks.failed_sats} satellites (decayed or bad elements); "
                      "their failed samples are left out")
     notes.extend(result.warnings)
-    return SiteRun(site, window, fleet, dec, mask, tracks, result, notes, evaluator, source)
+    return SiteRun(site, window, fleet, dec, mask, tracks, result, notes, evaluator, source, platform_run)
 
 
 def mount_dict(site: Site) -> dict:
@@ -267,4 +287,11 @@ def result_dict(run: SiteRun) -> dict:
         "verdict": a.verdict,
         "verdict_reason": a.verdict_reason,
         "warnings": list(run.warnings),
+        **({"platform": platform_json(run)} if run.platform is not None else {}),
     }
+
+
+def platform_json(run: SiteRun) -> dict:
+    from .platform import platform_dict
+
+    return platform_dict(run.platform, run.assessment, run.window)

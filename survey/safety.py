@@ -20,14 +20,17 @@ FIXED = (
     "Local building and electrical codes, the owner's rules and licensed trades come first.",
 )
 VEHICLE = (
-    "Check the roof or rack load rating and secure the mount for highway speeds.",
-    "Note the new vehicle height for bridges, car parks and garages.",
+    "Check the roof or rack load rating (static and dynamic) and secure the mount for highway speeds.",
+    "Note the new clearance height (vehicle plus terminal) for bridges, car parks and garages.",
     "Never mount or adjust a terminal while the vehicle is moving; route cables away from airbags.",
+    "The terminal and mount maker's instructions, the vehicle maker's rules and local road codes come first.",
 )
 MARINE = (
     "Keep the terminal out of radar beams and clear of the compass safe distance.",
+    "Keep it and its cable clear of running rigging and sheets; check the standing rigging it is near.",
     "Mount on a rail or mast rated for the sea state; use a harness aloft and never go aloft alone.",
     "Use marine-rated cable, bonding and through-deck fittings; follow the vessel's electrical standard.",
+    "The terminal and mount maker's instructions, the vessel's own rules and the local maritime codes come first.",
 )
 
 

@@ -11,6 +11,7 @@ import math
 from dataclasses import dataclass, field
 from datetime import datetime, timezone
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from .demos import resolve_site_path
 from .errors import InputError, Problems
@@ -20,6 +21,9 @@ from .photo.spec import PhotoSpec, photo_from_horizon_table
 from .plan import PLAN_RADIUS_M, Plan, plan_from_site_table
 from .tables import Table
 from .window import MAX_HOURS, MAX_STEP_S, MIN_STEP_S
+
+if TYPE_CHECKING:
+    from .platform import Platform
 
 MOUNT_KINDS = ("fixed", "vehicle", "marine")
 MIN_REASSIGN_S, MAX_REASSIGN_S = 1.0, 86_400.0  # a scheduling period of 1 s to a day (README, "Limits")
@@ -100,6 +104,7 @@ class Site:
     # dataclasses.replace then keeps the height the horizon was measured from.
     measured_height_m: float | None = None
     photo: PhotoSpec | None = None  # [horizon] photo: a panorama or fisheye shot (survey/photo/)
+    platform: Platform | None = None  # [platform]: a moving install's heading, attitude, route (survey/platform/)
 
     def __post_init__(self):
         if self.mount.at is None:
@@ -152,9 +157,9 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     problems = Problems(str(path))
     for key in doc:
         if key not in ("site", "mount", "terminal", "horizon", "window", "criteria", "schedule", "survey",
-                       "plan"):
+                       "plan", "platform"):
             problems.add(key, "unknown table (expected site, mount, terminal, horizon, window, "
-                              "criteria, schedule, survey, plan)")
+                              "criteria, schedule, survey, plan, platform)")
     if "site" not in doc:
         problems.add("site", "missing table [site] with name, latitude, longitude")
     s = Table(doc.get("site", {}), "site", problems, ("name", "latitude", "longitude", "elevation_m"))
@@ -178,7 +183,7 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     )
 
     h = Table(doc.get("horizon", {}), "horizon", problems, ("reference", "points", "file", "measured_height_m",
-                                                                 "photo"))
+                                                                 "photo", "frame"))
     reference = h.text("reference", "true", choices=REFERENCES)
     measured_height = h.number("measured_height_m", None, 0.0, 500.0)
     if measured_height is not None and "east_m" not in m.data and "north_m" not in m.data:
@@ -241,9 +246,12 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     if "plan" in doc:  # a GeoJSON plan is placed by the site point: only with a valid one
         plan = plan_from_site_table(doc["plan"], path, problems, (lat, lon) if origin_ok else None)
 
+    from .platform import platform_from_site  # the platform package imports the engine, which imports this
+
+    platform = platform_from_site(doc, path, problems)
     problems.raise_if_any()
     return Site(name, lat, lon, elev, mount, terminal, HorizonProfile(tuple(points), reference),
-                criteria, schedule, window, survey, path, plan, measured_height, photo)
+                criteria, schedule, window, survey, path, plan, measured_height, photo, platform)
 
 
 def _mount_at(m: Table, problems: Problems) -> tuple[float, float] | None:

@@ -27,13 +27,14 @@ from .horizon import HorizonPoint
 from .plan import plan_tables
 from .site import Criteria, Schedule, Site, site_from_dict
 
-TABLE_ORDER = ("site", "mount", "terminal", "horizon", "plan", "window", "criteria", "schedule", "survey")
-KEPT_AS_WRITTEN = ("plan", "window", "criteria", "schedule")  # the editor does not change these
+TABLE_ORDER = ("site", "mount", "terminal", "horizon", "platform", "plan", "window", "criteria", "schedule",
+               "survey")
+KEPT_AS_WRITTEN = ("plan", "window", "criteria", "schedule", "platform")  # the editor does not change these
 _KEY_ORDER = {
     "site": ("name", "latitude", "longitude", "elevation_m"),
     "mount": ("kind", "height_m", "east_m", "north_m"),
     "terminal": ("min_elevation_deg", "tilt_deg", "tilt_azimuth_deg", "scan_half_angle_deg"),
-    "horizon": ("reference", "measured_height_m", "points", "file", "photo"),
+    "horizon": ("reference", "frame", "measured_height_m", "points", "file", "photo"),
     "survey": ("surveyor", "organisation", "customer", "notes", "date"),
 }
 _REVISION = re.compile(r"^(?P<base>.*?)\.rev(?P<n>[0-9]+)$")  # horizon.rev3 (csv_revision_name)
@@ -373,6 +374,8 @@ def _from_site(site: Site, base: dict) -> dict[str, dict]:
     h: dict = {}
     if given("horizon", "reference", site.horizon.reference, "true", essential=bool(site.horizon.points)):
         h["reference"] = site.horizon.reference
+    if site.platform is not None and site.platform.frame == "body":
+        h["frame"] = "body"  # bearings from the bow or front (survey/platform/)
     if site.mount.at is not None and site.measured_height_m is not None:
         h["measured_height_m"] = site.measured_height_m
     if isinstance(h_base.get("file"), str):
@@ -387,6 +390,10 @@ def _kept_from_site(site: Site) -> dict[str, dict]:
     """plan, window, criteria and schedule written from the Site (no base, or the
     base's no longer reads as the site's)."""
     out: dict[str, dict] = {}
+    if site.platform is not None:
+        from .platform.model import platform_table
+
+        out["platform"] = platform_table(site.platform, site.path.parent if site.path else None)
     if site.plan is not None:
         out["plan"] = plan_tables(site.plan)
     if site.window:
@@ -407,6 +414,9 @@ def _base_reads_same(site: Site, base: dict, name: str, path: Path) -> bool:
     """Whether the base file's table ``name`` still reads as the site's value."""
     probe_doc = {"site": {"name": site.name, "latitude": site.latitude_deg, "longitude": site.longitude_deg},
                  name: base[name]}
+    if name == "platform":  # read with the mount kind and horizon frame it belongs to (survey/platform/model.py)
+        probe_doc["mount"] = {"kind": site.mount.kind}
+        probe_doc["horizon"] = {"frame": site.platform.frame} if site.platform is not None else {}
     try:
         probe = site_from_dict(probe_doc, path)
     except InputError:

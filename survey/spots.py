@@ -377,7 +377,11 @@ def _warnings(site, plan: Plan, scene: Scene, cands: list[Candidate], years: flo
         if n_in:
             out.append(f"{kind} '{name}': {n_in} of {n_all} candidate points stand inside "
                        f"{', '.join(sorted(what))} (below its top), so they see no sky: check the heights")
-    if site.mount.kind != "fixed":
+    if site.platform is not None:  # survey/platform/: the plan is a deck or roof plan
+        out.append("a vehicle or vessel: the plan is read in the body frame (east_m = metres to starboard, "
+                   "north_m = metres forward), ranked over the platform's headings and attitude"
+                   + ("; the roadside canyon is left out of the spot figures" if site.platform.canyon else ""))
+    elif site.mount.kind != "fixed":
         out.append(f"mount kind '{site.mount.kind}': spots are ranked as fixed mounts")
     return out
 

@@ -407,3 +407,73 @@ def test_site_file_with_a_photo_reader(tmp_path_factory, text):
     path = folder / "site.toml"
     path.write_text(text, encoding="utf-8", errors="surrogatepass")
     only_our_error(load_site, path)
+
+# ------------------------------------------------------------------ moving installs (issue 15)
+
+GPX_SEED = ('<?xml version="1.0" encoding="UTF-8"?>\n<gpx version="1.1" creator="seed" '
+            'xmlns="http://www.topografix.com/GPX/1/1"><trk><name>seed</name><trkseg>'
+            '<trkpt lat="45.30" lon="-72.60"><ele>2</ele><time>2026-06-01T00:00:00Z</time></trkpt>'
+            '<trkpt lat="45.31" lon="-72.58"><ele>3</ele><time>2026-06-01T00:05:00Z</time></trkpt>'
+            '<trkpt lat="45.32" lon="-72.56"><time>2026-06-01T00:10:00Z</time></trkpt>'
+            "</trkseg></trk></gpx>\n")
+PLATFORM_SEED = (MINIMAL_SITE.replace('kind = "fixed"', 'kind = "marine"')
+                 + '\n[horizon]\nframe = "body"\npoints = [[80, 30, "arch"], [100, 30]]\n'
+                 + '\n[platform]\nroute = "route.gpx"\nheel_deg = 5.0\nroll_deg = 3.0\nroll_period_s = 8\n'
+                 + 'sea = "random"\n')
+
+
+def test_the_route_and_platform_seeds_are_accepted(tmp_path):
+    from survey.platform import read_route
+
+    (tmp_path / "route.gpx").write_text(GPX_SEED, encoding="utf-8")
+    assert len(read_route(tmp_path / "route.gpx").times_s) == 3
+    (tmp_path / "site.toml").write_text(PLATFORM_SEED, encoding="utf-8")
+    site = load_site(tmp_path / "site.toml")
+    assert site.platform.heading_mode == "route" and site.platform.attitude.roll_deg == 3.0
+
+
+@FUZZ
+@given(spliced(GPX_SEED))
+def test_route_gpx_reader(tmp_path_factory, text):
+    from survey.platform import read_route
+
+    path = tmp_path_factory.mktemp("gpx") / "route.gpx"
+    path.write_text(text, encoding="utf-8", errors="surrogatepass")
+    only_our_error(read_route, path)
+
+
+@FUZZ
+@given(spliced(PLATFORM_SEED))
+def test_platform_table_reader(tmp_path_factory, text):
+    folder = tmp_path_factory.mktemp("platform")
+    (folder / "route.gpx").write_text(GPX_SEED, encoding="utf-8")
+    path = folder / "site.toml"
+    path.write_text(text, encoding="utf-8", errors="surrogatepass")
+    only_our_error(load_site, path)
+
+
+REPORT_WITH_ROUTE = json.dumps({
+    "report": {"kind": "leosite-site-report"},
+    "inputs": {"site": {"site": {"name": "Seed boat", "latitude": 45.3, "longitude": -72.6},
+                        "mount": {"kind": "marine", "height_m": 2.0},
+                        "horizon": {"frame": "body", "points": [[80, 30, "arch"], [100, 30]]},
+                        "platform": {"heel_deg": 5.0}},
+               "fleet": {"kind": "default"},
+               "route": {"source": "seed.gpx", "times_s": [1780272000, 1780272300, 1780272600],
+                         "latitude_deg": [45.30, 45.31, 45.32], "longitude_deg": [-72.60, -72.58, -72.56],
+                         "elevation_m": [2.0, None, 3.0]}}})
+
+
+def test_the_report_with_a_route_seed_is_accepted(tmp_path):
+    path = tmp_path / "r.json"
+    path.write_text(REPORT_WITH_ROUTE, encoding="utf-8")
+    saved = load_report_inputs(path)
+    assert saved.site.platform.heading_mode == "route" and len(saved.site.platform.route.times_s) == 3
+
+
+@FUZZ
+@given(spliced(REPORT_WITH_ROUTE))
+def test_report_json_route_reader(tmp_path_factory, text):
+    path = tmp_path_factory.mktemp("rr") / "r.json"
+    path.write_text(text, encoding="utf-8", errors="surrogatepass")
+    only_our_error(load_report_inputs, path)

@@ -57,4 +57,4 @@ def test_installed_wheel_assesses_a_demo_away_from_the_checkout(wheel, tmp_path)
                           capture_output=True, text=True, cwd=work, timeout=120)
     assert done.returncode == 0, done.stderr[-2000:]
     where, count = done.stdout.split()
-    assert where.startswith(str(target)) and int(count) == 4
+    assert where.startswith(str(target)) and int(count) == 6

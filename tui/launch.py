@@ -11,6 +11,7 @@ from pathlib import Path
 from survey.api import (
     Command,
     FleetChoice,
+    InputError,
     add_run_options,
     check_run_args,
     command_line,
@@ -26,6 +27,8 @@ def _ui_arguments(parser) -> None:
 
 def start_ui(args) -> int:
     check_run_args(args)
+    if getattr(args, "heading", None) is not None:  # the text UI edits the heading on its Site tab
+        raise InputError("command line: --heading: not for the text UI: type the heading on the Site tab")
     if args.site is not None:
         args.site = resolve_site_path(args.site)  # demo:NAME opens a working copy of that demo
         load_site(args.site)  # a bad site file is one line and exit 2, before the screen opens

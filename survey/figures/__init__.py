@@ -27,9 +27,11 @@ from ..words import duration
 from .canvas import encode_png, indexed_for_print
 from .from_run import (
     derived_horizon_png,
+    heading_chart_for_run,
     horizon_panorama_for_run,
     outage_timeline_for_run,
     plan_obstacles,
+    route_map_for_run,
     sky_plot_for_run,
     sky_plot_png,
     spots_plan_figure,
@@ -53,7 +55,7 @@ __all__ = [
     "indexed_for_print",
     # from an assessed site
     "sky_plot_for_run", "sky_plot_png", "horizon_panorama_for_run", "outage_timeline_for_run",
-    "derived_horizon_png", "spots_plan_figure", "spots_plan_inputs", "plan_obstacles",
+    "derived_horizon_png", "heading_chart_for_run", "route_map_for_run", "spots_plan_figure", "spots_plan_inputs", "plan_obstacles",
     # what the text UI draws with
     "BLUE", "SKY_BLUE", "VERMILLION", "ORANGE", "REDDISH_PURPLE", "BLUISH_GREEN", "YELLOW", "DOWN_BAR",
     "duration", "compact_pct", "ObstacleShape", "obstacle_shapes", "plan_cells", "plan_extent_points",

@@ -15,6 +15,9 @@ from .plan import plan_figure
 from .sky import sky_plot
 from .timeline import outage_timeline
 
+BODY_FRAME_NOTE = ("Body frame of the vehicle or vessel: N marks the bow or front (azimuth clockwise from it), "
+                   "elevation above the deck")
+
 
 def _window_text(w) -> str:
     return window(w.start, w.hours, w.step_s)
@@ -38,6 +41,8 @@ def sky_plot_for_run(run, size_px: int = 1000) -> Image.Image:
              f"Verdict {a.verdict}: blocked {pct(a.blocked_fraction)}, interruption {pct(a.interruption)}"]
     if s.horizon.reference == "magnetic":
         notes.append(f"Compass bearings rotated to true north: declination {_declination_text(run)} (WMM2025)")
+    if run.platform is not None:
+        notes.append(BODY_FRAME_NOTE)
     return sky_plot(
         az_deg=t.az_deg, el_deg=t.el_deg, blocked=a.blocked, weight_s=w.step_s,
         mask_az_deg=mask_az, mask_el_deg=run.mask.elevation_at(mask_az),
@@ -66,6 +71,8 @@ def horizon_panorama_for_run(run, size=PANO_SIZE) -> Image.Image:
     sub = _window_text(w)
     if s.horizon.reference == "magnetic":
         sub += f"; compass bearings rotated {_declination_text(run)} to true north (WMM2025)"
+    if run.platform is not None:
+        sub += "; " + BODY_FRAME_NOTE[:1].lower() + BODY_FRAME_NOTE[1:]
     return horizon_panorama(
         mask_az_deg=m_az, mask_el_deg=m_el, points=points, az_deg=t.az_deg, el_deg=t.el_deg,
         blocked=run.assessment.blocked, weight_s=w.step_s,
@@ -137,3 +144,31 @@ def spots_plan_figure(run, ranking, size=(1600, 1600)) -> Image.Image:
                        best=best, title=f"{run.site.name}: mounting spots",
                        subtitle=f"{len(ranking.results):,} candidates, {_window_text(run.window)}{grown}",
                        size=size)
+
+
+def heading_chart_for_run(run, size_px: int = 1000) -> Image.Image:
+    """The by-heading chart of a vehicle or vessel (not for a route)."""
+    from .heading import heading_chart
+
+    p = run.platform
+    rows = p.by_heading
+    fixed = p.platform.heading_mode == "fixed"
+    worst = max(rows, key=lambda r: -1 if r.blocked_fraction is None else r.blocked_fraction)
+    notes = [f"Worst sector {worst.heading_deg:g}°: blocked {pct(worst.blocked_fraction)}, "
+             f"availability {pct(worst.availability)}; {p.platform.attitude.text()}."]
+    return heading_chart(headings_deg=[r.heading_deg for r in rows],
+                         blocked_fraction=[r.blocked_fraction for r in rows],
+                         title=f"{run.site.name}: blocked by heading", subtitle=_window_text(run.window),
+                         heading_used_deg=p.platform.heading_deg if fixed else None, notes=notes, size_px=size_px)
+
+
+def route_map_for_run(run, size=(1400, 1100)) -> Image.Image:
+    """The route map of a vehicle or vessel on a route."""
+    from .route_map import route_map
+
+    p = run.platform
+    a = run.assessment
+    notes = [f"Down {pct(a.interruption)} of the time; {p.platform.attitude.text()}."]
+    return route_map(latitude_deg=p.latitude_deg, longitude_deg=p.longitude_deg, down=a.down,
+                     title=f"{run.site.name}: link along the route", subtitle=_window_text(run.window),
+                     notes=notes, size=size)

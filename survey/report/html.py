@@ -116,6 +116,20 @@ def render_html(model: dict, figures: dict) -> str:
                                if sp["growth"] else []) + sp["warnings"]
         if extra:
             parts += ["<ul>"] + [f"<li>{_e(x)}</li>" for x in extra] + ["</ul>"]
+    pf = model.get("platform")
+    if pf:
+        part = pf["by_heading"] or pf["route"]
+        parts += ["<h2>Platform: vehicle or vessel</h2>", _kv_table(pf["setup"]), f"<p><b>{_e(part['summary'])}</b></p>",
+                  _figure_html(figures[pf["figure"]], "Platform figure", pf["caption"])]
+        if pf["by_heading"]:
+            parts.append(_grid_table(("Heading", "Blocked", "Availability"), part["rows"], numeric=(1, 2)))
+        elif part["rows"]:
+            parts.append(_grid_table(("Start", "Duration", "Along the route", "Where (lat, lon)"), part["rows"],
+                                     numeric=(1, 2)))
+        if pf["sea_states"]:
+            parts += ["<h3>By sea state (leosite's own presets)</h3>",
+                      _grid_table(("Sea state", "Blocked", "Availability", "Interruption"), pf["sea_states"],
+                                  numeric=(1, 2, 3))]
     parts += ["<h2>Drop-outs over the window</h2>",
               _figure_html(figures["timeline"], "Outage timeline", FIGURE_CAPTIONS["timeline"])]
     out = model["outages"]

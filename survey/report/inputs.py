@@ -52,6 +52,12 @@ def site_document(site: Site) -> dict:
         doc["plan"] = plan_tables(site.plan)
     if site.photo is not None:  # the photo by its absolute path: making the report again needs that file
         doc["horizon"]["photo"] = dict(site.photo.as_table(Path(".")), file=Path(site.photo.file).resolve().as_posix())
+    if site.platform is not None:  # the route travels under inputs.route, inline (report_inputs)
+        from ..platform.model import platform_table
+
+        doc["platform"] = {k: v for k, v in platform_table(site.platform).items() if k != "route"}
+        if site.platform.frame == "body":
+            doc["horizon"]["frame"] = "body"
     return doc
 
 
@@ -62,7 +68,12 @@ def report_inputs(run: SiteRun) -> dict:
     w = run.window
     site_doc = site_document(run.site)
     site_doc["window"] = {"start": w.start.strftime("%Y-%m-%dT%H:%M:%SZ"), "hours": w.hours, "step_s": w.step_s}
-    return {"site": site_doc, "fleet": {"kind": kind, "name": name, "text": text}}
+    out = {"site": site_doc, "fleet": {"kind": kind, "name": name, "text": text}}
+    if run.site.platform is not None and run.site.platform.route is not None:
+        from ..platform.route import route_json
+
+        out["route"] = route_json(run.site.platform.route)
+    return out
 
 
 @dataclass(frozen=True)
@@ -93,4 +104,14 @@ def load_report_inputs(path: str | Path) -> SavedReport:
         raise InputError(f"{path}: inputs.fleet.text: missing")
     choice = FleetChoice(embedded=(kind, f"{path} ({fleet.get('name', '')})", fleet["text"])) \
         if kind != "default" else FleetChoice()
-    return SavedReport(site_from_dict(inputs["site"], path), choice)
+    site = site_from_dict(inputs["site"], path)
+    if "route" in inputs:  # a vehicle's or vessel's route, carried inline
+        from dataclasses import replace
+
+        from ..platform.route import route_from_json
+
+        if site.platform is None:
+            raise InputError(f"{path}: inputs.route: only with inputs.site.platform")
+        route = route_from_json(str(path), inputs["route"])
+        site = replace(site, platform=replace(site.platform, heading_mode="route", route=route))
+    return SavedReport(site, choice)

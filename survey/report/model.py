@@ -11,6 +11,7 @@ from ..safety import notes_for
 from ..words import NBSP, azimuth, azimuth_span, coordinates, duration, elevation, length, pct, utc, window
 from .advice import recommendations
 from .inputs import REPORT_KIND, REPORT_VERSION, report_id, report_inputs
+from .platform_section import platform_section
 from .spots_section import spots_section
 
 MAX_OUTAGE_ROWS = 10
@@ -65,7 +66,8 @@ def report_model(run: SiteRun,
     fov = "none set: all sky above the minimum elevation"
     if s.terminal.scan_half_angle_deg is not None:
         fov = (f"cone of {elevation(s.terminal.scan_half_angle_deg)} half-angle around a boresight tilted "
-               f"{elevation(s.terminal.tilt_deg)} toward {azimuth(s.terminal.tilt_azimuth_deg)} (true)")
+               f"{elevation(s.terminal.tilt_deg)} toward {azimuth(s.terminal.tilt_azimuth_deg)} "
+               + ("(from the bow; fixed to the deck)" if s.platform is not None else "(true)"))
     setup = [
         ("Satellites", f"{len(run.fleet):,} from {run.fleet.source}"),
         ("Shells or groups", groups or "-"),
@@ -98,6 +100,10 @@ def report_model(run: SiteRun,
     else:
         bearing_note = (f"Bearings are true (referred to true north); no declination applied. "
                         f"For reference, the WMM2025 declination here is {dec:+.2f}°.")
+    if s.platform is not None and s.platform.frame == "body":
+        bearing_note = ("Bearings are in the body frame: clockwise from the bow or the vehicle's front, elevations "
+                        "above the deck; the azimuth columns and the obstruction sectors are body-frame bearings, "
+                        "not true ones. No declination applies.")
     if not s.horizon.points:
         bearing_note = "No horizon points were measured: the sky is taken as clear to the horizon."
     photo = photo_section(run)
@@ -115,13 +121,14 @@ def report_model(run: SiteRun,
         "sectors": sectors,
         "recommendations": recommendations(run),
         "spots": spots_section(run, ranking) if ranking is not None else None,
+        "platform": platform_section(run),
         "outages": {"count": len(a.outages), "rows": outage_rows, "longest_first": len(o["events"]) > len(events)},
         "horizon": {"note": bearing_note, "rows": horizon_rows},
         "photo": photo,
         "notes": sv.get("notes", ""),
         "warnings": list(run.warnings),
         "method": method_text(run),
-        "not_modelled": NOT_MODELLED,
+        "not_modelled": NOT_MODELLED if run.platform is None else NOT_MODELLED[:-1] + NOT_MODELLED_MOVING,
         "safety": list(notes_for(s.mount.kind)),
         "result": result,
         "inputs": inputs,
@@ -160,6 +167,10 @@ NOT_MODELLED = [
     "network capacity, congestion and the operator's own scheduling and beam planning",
     "terminal faults, power cuts and cabling problems",
     "motion of vehicles and vessels (heading, roll, pitch): assessed as a fixed mount",
+]
+NOT_MODELLED_MOVING = [  # with a [platform] table (survey/platform/)
+    "yaw motion about the heading, surge and sway; the terminal's own stabilisation or tracking limits",
+    "how fast a real heading changes when headings are a distribution (outage counts are indicative)",
 ]
 
 

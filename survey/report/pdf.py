@@ -266,6 +266,10 @@ def render_pdf(model: dict, figures: dict, paper: str, captions: dict) -> bytes:
             pdf.ln(1)
             pdf.bullets(extra, SMALL_PT + 0.5)
 
+    pf = model.get("platform")
+    if pf:
+        _platform_pdf(pdf, pf, figures)
+
     pdf.heading("Drop-outs over the window", keep_mm=pdf.figure_height(figures["timeline"], pdf.epw) + 12)
     pdf.figure(figures["timeline"], pdf.epw, captions["timeline"])
     out = model["outages"]
@@ -318,3 +322,29 @@ def render_pdf(model: dict, figures: dict, paper: str, captions: dict) -> bytes:
             pdf.cell(col, 4, f"{who}: {line.lower()}")
         pdf.set_y(y + 4)
     return bytes(pdf.output())
+
+
+def _platform_pdf(pdf, pf: dict, figures: dict) -> None:
+    """The platform section of a vehicle or vessel (report/platform_section.py)."""
+    image = figures[pf["figure"]]
+    fig_w = min(112.0, pdf.epw) if pf["figure"] == "heading" else pdf.epw
+    pdf.heading("Platform: vehicle or vessel", keep_mm=pdf.figure_height(image, fig_w) + 40)
+    pdf.grid(None, pf["setup"], (38, pdf.epw - 38), key_column=True)
+    part = pf["by_heading"] or pf["route"]
+    pdf.ln(1)
+    pdf.para(part["summary"], style="B")
+    pdf.figure(image, fig_w, pf["caption"])
+    if pf["by_heading"]:
+        rows = part["rows"]
+        half = (len(rows) + 1) // 2
+        joined = [a + (b if b else ("", "", "")) for a, b in zip(rows[:half], rows[half:] + [None])]
+        pdf.grid(("Heading", "Blocked", "Availability", "Heading", "Blocked", "Availability"), joined,
+                 (pdf.epw / 6,) * 6, align=("LEFT", "RIGHT", "RIGHT", "LEFT", "RIGHT", "RIGHT"), size=SMALL_PT + 0.5)
+    elif part["rows"]:
+        pdf.grid(("Start", "Duration", "Along the route", "Where (lat, lon)"), part["rows"],
+                 (50, 26, 34, pdf.epw - 110), align=("LEFT", "RIGHT", "RIGHT", "LEFT"), size=SMALL_PT + 0.5)
+    if pf["sea_states"]:
+        pdf.ln(1)
+        pdf.para("By sea state (leosite's own presets, README \"Sea states\"):", style="B")
+        pdf.grid(("Sea state", "Blocked", "Availability", "Interruption"), pf["sea_states"], (40, 30, 30, 30),
+                 align=("LEFT", "RIGHT", "RIGHT", "RIGHT"), size=SMALL_PT + 0.5)

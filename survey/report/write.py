@@ -32,6 +32,11 @@ def report_figures(run: SiteRun, ranking=None) -> dict:
         from ..figures.photo import photo_panorama_for_run
 
         figures["photo"] = photo_panorama_for_run(run)
+    if run.platform is not None:  # a vehicle or vessel (survey/platform/)
+        if run.platform.platform.route is None:
+            figures["heading"] = fig.heading_chart_for_run(run, size_px=1200)
+        else:
+            figures["route"] = fig.route_map_for_run(run)
     return figures
 
 

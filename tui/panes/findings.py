@@ -11,10 +11,11 @@ from textual.app import ComposeResult
 from textual.containers import Vertical, VerticalScroll
 from textual.widgets import Static
 
-from survey.api import Schedule, SiteRun, pct
+from survey.api import Schedule, SiteRun, pct, route_down_time
 from survey.api import duration as fmt_duration
 
 from ..verdicts import verdict_text
+from ..widgets.headingbars import heading_bars
 from ..widgets.timeline import OutageStrip
 
 
@@ -37,6 +38,8 @@ class FindingsPane(VerticalScroll):
             yield Static("Drop-outs under the scheduling model (UTC)", classes="section")
             yield OutageStrip(id="outages")
             yield Static("", markup=False, id="outage-list")
+            yield Static("Platform", classes="section", id="platform-head")
+            yield Static("", markup=False, id="platform")
             yield Static("Costliest obstructions", classes="section")
             yield Static("", markup=False, id="sectors")
             yield Static("", markup=False, id="advice")
@@ -70,6 +73,32 @@ class FindingsPane(VerticalScroll):
         if self.assessed:
             foot.append("\nThe findings below are from before the change.", style="dim")
         held.update(Group(head, fields, foot))
+
+    def _show_platform(self, run: SiteRun) -> None:
+        """A vehicle or vessel: heading, attitude, and the by-heading bars or the
+        down time along the route (the route's timeline is the strip above)."""
+        pr = run.platform
+        self.query_one("#platform-head").display = self.query_one("#platform").display = pr is not None
+        if pr is None:
+            return
+        p = pr.platform
+        text = Text()
+        text.append(f"{run.site.mount.kind}: {p.heading_text()}; {p.attitude.text()}\n")
+        if p.canyon is not None:
+            text.append(f"roadside canyon {p.canyon.name} ({p.canyon.height_m:g} m, road {p.canyon.width_m:g} m)\n")
+        if p.route is None:
+            text.append("Blocked by heading (the platform held in each 10° sector):\n", style="bold")
+            text.append_text(heading_bars([r.blocked_fraction for r in pr.by_heading], 72, 7,
+                                          colour=self.app.console.color_system is not None))
+        else:
+            d = route_down_time(pr, run.assessment, run.window)
+            text.append(f"Along the route: {d['distance_km']:.1f} km, down {d['down_minutes']:.1f} min "
+                        f"({pct(d['down_share'], 2)}) in {len(d['events'])} outages (the strip above is the "
+                        "route's timeline)")
+        for row in pr.sea_states:
+            text.append(f"\n  {row.name:<9} blocked {pct(row.blocked_fraction, 2):>8}, availability "
+                        f"{pct(row.availability, 2):>8}, interruption {pct(row.interruption, 2):>7}")
+        self.query_one("#platform", Static).update(text)
 
     def show_run(self, run: SiteRun) -> None:
         self.assessed = True
@@ -106,9 +135,10 @@ class FindingsPane(VerticalScroll):
         outage_list.update(lines)
         outage_list.display = bool(longest)
 
+        self._show_platform(run)
         if a.sectors:
             t = Table(box=None, padding=(0, 1), show_edge=False, header_style="bold")
-            t.add_column("Azimuths (true)")
+            t.add_column("Azimuths (from the bow)" if run.platform is not None else "Azimuths (true)")
             t.add_column("Peak", justify="right")
             t.add_column("Share", justify="right")
             t.add_column("If cleared", justify="right")

@@ -77,10 +77,14 @@ def entry_text(p: HorizonPoint) -> str:
     return " ".join(parts)
 
 
-def reference_phrases(magnetic: bool, declination_deg: float | None, note: str = "") -> tuple:
+def reference_phrases(magnetic: bool, declination_deg: float | None, note: str = "", body: bool = False) -> tuple:
     """The line over the table: which north the bearings use, the declination
-    and the key that switches; each phrase fits the table's narrowest width."""
-    if magnetic:
+    and the key that switches; each phrase fits the table's narrowest width.
+    ``body``: a vehicle's or vessel's body-frame bearings (README, "Moving installs")."""
+    if body:
+        phrases = ("Body frame: bearings from the bow or front,", "clockwise;", "elevations above the deck.",
+                   "No declination added")
+    elif magnetic:
         dec = ("Declination: needs valid coordinates" if declination_deg is None else
                f"Declination {declination_deg:+.2f}° (WMM2025) added")
         phrases = ("Compass bearings.", "Key m: use true bearings.", dec)
@@ -111,6 +115,7 @@ class HorizonEditor(Vertical):
         super().__init__(**kw)
         self.profile = HorizonProfile()
         self.declination_deg: float | None = None
+        self.body_frame = False  # a vehicle's or vessel's horizon, bearings from the bow (workspace.load sets it)
         self.declination_note = ""
         self.min_elevation_deg = 25.0
         self.editing: int | None = None  # row being changed through the entry
@@ -193,7 +198,7 @@ class HorizonEditor(Vertical):
             row = cursor if cursor is not None else (old if keep_cursor else min(old, n - 1))
             table.move_cursor(row=max(0, min(row, n - 1)))
         self.query_one("#reference", Phrases).show(*reference_phrases(
-            magnetic, self.declination_deg, self.declination_note))
+            magnetic, self.declination_deg, self.declination_note, body=self.body_frame))
         self.query_one("#entry-label", Label).update(
             "Add " if self.editing is None else f"#{self.editing + 1} ")
         self._refresh_preview()
@@ -342,6 +347,10 @@ class HorizonEditor(Vertical):
 
     def action_toggle_reference(self) -> None:
         """Say which north the typed bearings refer to (the numbers stay as typed)."""
+        if self.body_frame:  # body-frame bearings come from the bow, not from a north
+            self.app.notify("Body-frame bearings are taken from the bow or front: no compass or true north",
+                            timeout=4)
+            return
         ref = "true" if self.profile.reference == "magnetic" else "magnetic"
         self._set(replace(self.profile, reference=ref), cursor=self._selected())
         what = "compass (magnetic) bearings: the declination is added" if ref == "magnetic" else \

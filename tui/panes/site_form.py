@@ -13,7 +13,8 @@ from textual.widgets import Input, Label, Select, Static
 
 from ..fields import CHOICES, FIELDS, field_values, parse_field
 
-_SECTIONS = {"site.name": "Where", "mount.kind": "Mount and terminal", "survey.surveyor": "Survey"}
+_SECTIONS = {"site.name": "Where", "mount.kind": "Mount and terminal", "platform.heading_deg": "Vehicle or vessel",
+             "survey.surveyor": "Survey"}
 
 
 def _dom_id(key: str) -> str:
@@ -94,7 +95,8 @@ class SiteForm(VerticalScroll):
         return str(widget.value) if widget.value is not Select.BLANK else ""
 
     def _check(self, key: str) -> None:
-        value, problem, note = parse_field(key, self._text(key))
+        folder = self.site.path.parent if self.site is not None and self.site.path is not None else None
+        value, problem, note = parse_field(key, self._text(key), folder)
         if not problem:
             note = note or self._context_note(key, value)
         msg = self.query_one("#" + _dom_id(key) + "-msg", Static)
