@@ -57,6 +57,7 @@ class Command:
 # module defines ``COMMAND = Command(...)``, imports what is heavy inside its run
 # function, and is named here, one line each.
 COMMAND_MODULES: tuple[str, ...] = ()
+COMMAND_MODULES += ("batch.command", "batch.register_command")  # issue 16: batch runs and the site register
 
 
 def engine_commands() -> tuple[Command, ...]:
