@@ -101,7 +101,7 @@ def test_the_shared_sky_is_skyfields_topocentric_sky():
     window = WindowSpec(datetime(2026, 6, 1, tzinfo=timezone.utc), 2.0, 60.0)
     full = default_fleet(window.start)
     fleet = type(full)(full.satrecs[::40], full.names[::40], full.group[::40], full.source)
-    sky = propagate(fleet, window)
+    sky = propagate(fleet, window, ("default", "", ""))
     ts = load.timescale(builtin=True)
     times = ts.utc(2026, 6, 1, 0, 0, np.arange(window.count) * 60.0)
     for lat, lon in ((45.3, -72.6), (-41.2, 174.8), (89.5, 10.0)):  # mid north, south, near the pole
@@ -271,7 +271,7 @@ def test_the_progress_line_has_a_rate_and_an_eta():
 def test_a_row_whose_window_is_refused_fails_alone(tmp_path, capsys):
     folder = tmp_path / "sites"
     folder.mkdir()
-    (folder / "ok.toml").write_text(MINIMAL_SITE, "utf-8")
+    (folder / "ok.toml").write_text(MINIMAL_SITE + "[window]\nhours = 1\nstep_s = 60\n", "utf-8")
     (folder / "long.toml").write_text(MINIMAL_SITE + "[window]\nstart = 2026-06-01\nhours = 8000\nstep_s = 0.1\n",
                                       "utf-8")
     out = tmp_path / "r.csv"

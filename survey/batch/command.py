@@ -111,6 +111,13 @@ def _check_args(args) -> None:
         problems.add("--reports", f"{args.reports}: is a file, expected a folder")
     elif args.reports is not None and not (args.reports.parent if str(args.reports.parent) else Path(".")).is_dir():
         problems.add("--reports", f"{args.reports}: folder {args.reports.parent} does not exist")
+    if args.scheduler is not None:
+        from .runner import cluster_module
+
+        try:
+            cluster_module()
+        except InputError as exc:
+            problems.items.extend(exc.problems)
     if not args.input.exists():
         problems.add("INPUT", f"{args.input}: not found (a sites CSV or a folder of site files)")
     problems.raise_if_any()
@@ -170,7 +177,7 @@ def run(args) -> int:
     try:
         for window, fleet in fleets.items():
             t0 = time.monotonic()
-            skies[window] = propagate(fleet, window)
+            skies[window] = propagate(fleet, window, source)
             sys.stderr.write(f"propagated {len(fleet):,} satellites x {window.count:,} samples "
                              f"({window.hours:g} h at {window.step_s:g} s) once for "
                              f"{len(windows[window]):,} sites in {time.monotonic() - t0:.1f} s\n")

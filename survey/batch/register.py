@@ -198,6 +198,10 @@ class Register:
                 _run_script(self.con, MIGRATIONS[v])
             self.con.execute("UPDATE meta SET value = ? WHERE key = 'schema_version'", (str(SCHEMA_VERSION),))
             self.con.execute("COMMIT")
+        except sqlite3.Error as exc:
+            self.con.execute("ROLLBACK")
+            raise InputError(f"{self.path}: cannot migrate the register from schema version {version} to "
+                             f"{SCHEMA_VERSION}: {exc}; it is left as it was") from None
         except BaseException:
             self.con.execute("ROLLBACK")
             raise

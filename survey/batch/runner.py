@@ -71,30 +71,36 @@ def run_local(context: Context, rows: list[BatchRow], workers: int) -> Iterator[
             child.terminate()
 
 
-def cluster_client(address: str):
-    """A Dask distributed client for ``address``; one line when Dask is missing
-    or the scheduler cannot be reached."""
+def cluster_module():
+    """Dask distributed, or one line saying how to install it."""
     try:
-        from distributed import Client
+        import distributed
     except ImportError:
         raise InputError("--scheduler: needs Dask distributed, which is not installed: "
                          "pip install 'leosite[cluster]'") from None
+    return distributed
+
+
+def cluster_client(address: str):
+    """A Dask distributed client for ``address``; one line when Dask is missing
+    or the scheduler cannot be reached."""
+    distributed = cluster_module()
     try:
-        return Client(address, timeout=20, set_as_default=False)
+        return distributed.Client(address, timeout=20, set_as_default=False)
     except (OSError, TimeoutError, ValueError) as exc:
         raise InputError(f"--scheduler: {address}: cannot reach the Dask scheduler: {exc}") from None
 
 
 def run_cluster(context: Context, rows: list[BatchRow], address: str) -> Iterator[list[SiteResult]]:
     """Results task by task as they finish on the cluster at ``address``."""
-    from distributed import as_completed
-
     client = cluster_client(address)
+    as_completed = cluster_module().as_completed
     try:
         workers = max(1, sum(w.get("nthreads", 1) for w in client.scheduler_info()["workers"].values()))
         shared = client.scatter(context, broadcast=True, hash=False)  # once to every worker
         futures = [client.submit(assess_rows, shared, task, pure=False) for task in chunks(rows, workers)]
-        for fut in as_completed(futures):
-            yield fut.result()
+        with client.as_current():  # as_completed finds its client here
+            for fut in as_completed(futures):
+                yield fut.result()
     finally:
         client.close()

@@ -55,6 +55,20 @@ class SharedSky:
     rmax_km: np.ndarray
     block: int
     failed_sats: int
+    fleet_source: tuple[str, str, str] = ("default", "", "")  # FleetChoice.as_embedded(): how to load it again
+
+    def __getstate__(self) -> dict:
+        """Sent to another process without the fleet (sgp4's Satrec objects do not
+        pickle): the fleet file's text goes instead, loaded again there, once."""
+        state = dict(self.__dict__)
+        state["fleet"] = None
+        return state
+
+    def __setstate__(self, state: dict) -> None:
+        from ..pipeline import FleetChoice
+
+        self.__dict__.update(state)
+        self.fleet = FleetChoice(embedded=self.fleet_source).load(self.window.start)
 
     @property
     def nbytes(self) -> int:
@@ -73,8 +87,9 @@ def check_shared_size(window: WindowSpec, satellites: int, where: str = "batch")
                          "a shorter --hours")
 
 
-def propagate(fleet: Fleet, window: WindowSpec, progress=None) -> SharedSky:
-    """Every satellite of ``fleet`` at every sample time of ``window``, Earth-fixed."""
+def propagate(fleet: Fleet, window: WindowSpec, fleet_source: tuple[str, str, str], progress=None) -> SharedSky:
+    """Every satellite of ``fleet`` (loaded from ``fleet_source``) at every sample
+    time of ``window``, Earth-fixed."""
     from sgp4.api import SatrecArray
 
     check_shared_size(window, len(fleet))
@@ -101,7 +116,7 @@ def propagate(fleet: Fleet, window: WindowSpec, progress=None) -> SharedSky:
         xyz[a:b][bad] = np.nan
         centre[a:b], radius[a:b], rmax[a:b] = _caps(xyz[a:b], block)
         report(b / S)
-    return SharedSky(fleet, window, xyz, centre, radius, rmax, block, failed)
+    return SharedSky(fleet, window, xyz, centre, radius, rmax, block, failed, fleet_source)
 
 
 def _caps(xyz: np.ndarray, block: int):
