@@ -33,10 +33,12 @@ from ..site import Terminal
 from ..tracks import Observer, SkyTracks, coverage_angle_rad, observer_frame, sample_times
 from ..window import WindowSpec
 
-BLOCK_S = 240.0  # seconds of track per culling block: a cap of about 8 degrees in LEO
+BLOCK_S = 120.0  # seconds of track per culling block: a cap of about 4 degrees in LEO
 SAT_CHUNK = 128  # satellites propagated at once: bounds the float64 temporaries
 MAX_SHARED_SAMPLES = 50_000_000  # sample times x satellites kept for a batch (README, "Limits"): 600 MB
-CAP_MARGIN_RAD = math.radians(0.5)  # geodetic vs geocentric vertical (< 0.2 deg) and the ellipsoid
+CAP_MARGIN_RAD = math.radians(0.5)
+# 500 m below the polar radius (6,356.75 km, WGS84) with 0.2 % more (as tracks._bounds): no site is lower
+LOWEST_SITE_RADIUS_KM = (6356.752 - 0.5) * 0.998  # geodetic vs geocentric vertical (< 0.2 deg) and the ellipsoid
 
 
 @dataclass
@@ -62,6 +64,7 @@ class SharedSky:
         pickle): the fleet file's text goes instead, loaded again there, once."""
         state = dict(self.__dict__)
         state["fleet"] = None
+        state.pop("_cos_limits", None)
         return state
 
     def __setstate__(self, state: dict) -> None:
@@ -69,6 +72,24 @@ class SharedSky:
 
         self.__dict__.update(state)
         self.fleet = FleetChoice(embedded=self.fleet_source).load(self.window.start)
+
+    def cos_limit(self, min_elevation_deg: float) -> np.ndarray:
+        """(S, B) cosine of the largest angle between the site's geocentric
+        direction and a block's centre at which the block can hold a sample at or
+        above ``min_elevation_deg``: the block's cap radius plus the coverage
+        angle (tracks.coverage_angle_rad) from the block's highest radius, taken
+        for the lowest site radius (a lower site sees farther), 0.5 degree lower
+        and with the margin for the geodetic vertical, as tracks.py widens it.
+        Kept for each minimum elevation asked for (a batch has few)."""
+        cache = self.__dict__.setdefault("_cos_limits", {})
+        if min_elevation_deg not in cache:
+            eps = max(min_elevation_deg - 0.5, 0.0)
+            rmax = np.where(np.isfinite(self.rmax_km), self.rmax_km, 1e9).astype(np.float64)
+            reach = self.radius_rad + coverage_angle_rad(eps, LOWEST_SITE_RADIUS_KM, rmax * 1.001) + CAP_MARGIN_RAD
+            limit = np.cos(np.clip(reach, 0.0, math.pi)).astype(np.float32)
+            limit[~np.isfinite(self.rmax_km)] = -2.0  # a block with a failed sample: always looked at
+            cache[min_elevation_deg] = limit
+        return cache[min_elevation_deg]
 
     @property
     def nbytes(self) -> int:
@@ -148,16 +169,8 @@ def site_tracks(sky: SharedSky, observer: Observer, terminal: Terminal) -> SkyTr
     """The site's usable-sky samples from the shared positions: the blocks whose
     cap can reach the coverage angle, then exact topocentric geometry."""
     site, enu = observer_frame(observer)
-    site_r = float(np.linalg.norm(site))
-    up_dir = site / site_r
-    # The coverage angle at (min elevation - 0.5 deg) from the block's highest radius,
-    # as tracks._bounds widens it, plus the margin for the geodetic vertical.
-    eps = max(terminal.min_elevation_deg - 0.5, 0.0)
-    rmax = np.where(np.isfinite(sky.rmax_km), sky.rmax_km, 1e9)
-    cap = coverage_angle_rad(eps, site_r * 0.998, rmax * 1.001) + CAP_MARGIN_RAD
-    cos_to = sky.centre @ up_dir.astype(np.float32)
-    near = np.arccos(np.clip(cos_to, -1.0, 1.0)) - sky.radius_rad <= cap
-    near |= ~np.isfinite(sky.rmax_km)
+    up_dir = site / float(np.linalg.norm(site))
+    near = (sky.centre @ up_dir.astype(np.float32)) >= sky.cos_limit(terminal.min_elevation_deg)
     bs, bb = np.nonzero(near)
     T, k = sky.window.count, sky.block
     offs = np.arange(k)
@@ -168,16 +181,19 @@ def site_tracks(sky: SharedSky, observer: Observer, terminal: Terminal) -> SkyTr
     d = sky.xyz[sat, idx].astype(np.float64) - site
     e, n, u = d @ enu[0], d @ enu[1], d @ enu[2]
     rng = np.sqrt(e * e + n * n + u * u)
-    el = np.degrees(np.arcsin(np.clip(u / np.where(rng > 0, rng, 1.0), -1.0, 1.0)))
-    ok = np.isfinite(el) & (el >= terminal.min_elevation_deg)
+    # At or above the minimum elevation: up >= range * sin(min), before any arcsin
+    # (NaN, a failed SGP4 sample, compares False).
+    ok = u >= rng * math.sin(math.radians(terminal.min_elevation_deg))
     if terminal.scan_half_angle_deg is not None:
         tl, ta = math.radians(terminal.tilt_deg), math.radians(terminal.tilt_azimuth_deg)
         bore = (math.sin(tl) * math.sin(ta), math.sin(tl) * math.cos(ta), math.cos(tl))
-        ok &= (e * bore[0] + n * bore[1] + u * bore[2]) / np.where(rng > 0, rng, 1.0) \
-            >= math.cos(math.radians(terminal.scan_half_angle_deg))
-    sat, idx, e, n, el, rng = sat[ok], idx[ok], e[ok], n[ok], el[ok], rng[ok]
+        ok &= (e * bore[0] + n * bore[1] + u * bore[2]) >= rng * math.cos(math.radians(terminal.scan_half_angle_deg))
+    sat, idx, e, n, u, rng = sat[ok], idx[ok], e[ok], n[ok], u[ok], rng[ok]
+    el = np.degrees(np.arcsin(np.clip(u / np.where(rng > 0, rng, 1.0), -1.0, 1.0)))
+    keep = el >= terminal.min_elevation_deg  # the same test in degrees, as compute_tracks makes it
+    sat, idx, e, n, el, rng = sat[keep], idx[keep], e[keep], n[keep], el[keep], rng[keep]
     az = np.degrees(np.arctan2(e, n)) % 360.0
-    order = np.lexsort((sat, idx))
+    order = np.argsort(idx.astype(np.int64) * max(len(sky.fleet), 1) + sat, kind="stable")  # by time, then satellite
     return SkyTracks(sat[order].astype(np.int32), idx[order].astype(np.int32), az[order].astype(np.float32),
                      el[order].astype(np.float32), rng[order].astype(np.float32), sky.window, sky.fleet,
                      observer, terminal, 0, sky.failed_sats)
