@@ -21,6 +21,8 @@ from typing import TYPE_CHECKING
 
 from . import palette
 from .angles import format_dms, parse_angle
+from .batch.register import list_assessments, recorded_site
+from .batch.results import read_results
 from .cli import Command, add_run_options, check_run_args
 from .cli import main as command_line
 from .demos import DemoSite, bundled_demo, demo_sites, resolve_site_path
@@ -40,6 +42,7 @@ from .window import WindowSpec, resolve_window, window_start
 from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, length_number, pct, utc
 
 __all__ = [
+    "list_assessments", "read_results", "recorded_site",
     "length_number",
     "measured_mask",
     "cone_edge", "nice_ceil", "nice_floor", "points_in_polygon",

@@ -350,3 +350,20 @@ def recorded_inputs(path: str | Path, assessment_id: int) -> tuple[dict, dict]:
         raise InputError(f"{path}: assessment {assessment_id}: not in the register")
     inputs = json.loads(row[0])
     return inputs, {"kind": row[1] or "default", "name": row[2] or "", "text": row[3] or ""}
+
+
+def recorded_site(path: str | Path, assessment_id: int, site_path: str | Path):
+    """(the Site an assessment ran on, placed at ``site_path``, and its fleet as a
+    FleetChoice): a recorded assessment opened as a site (the text UI writes it
+    as a working copy there).  The window it ran on is the site's [window]."""
+    from ..pipeline import FleetChoice
+    from ..site import site_from_dict
+
+    inputs, fleet = recorded_inputs(path, assessment_id)
+    doc = inputs.get("site")
+    if not isinstance(doc, dict):
+        raise InputError(f"{path}: assessment {assessment_id}: no site recorded (the row had failed)")
+    site = site_from_dict(doc, Path(site_path))
+    choice = FleetChoice() if fleet["kind"] == "default" else \
+        FleetChoice(embedded=(fleet["kind"], f"{path} ({fleet['name']})", fleet["text"]))
+    return site, choice
