@@ -170,7 +170,11 @@ def site_tracks(sky: SharedSky, observer: Observer, terminal: Terminal) -> SkyTr
     cap can reach the coverage angle, then exact topocentric geometry."""
     site, enu = observer_frame(observer)
     up_dir = site / float(np.linalg.norm(site))
-    near = (sky.centre @ up_dir.astype(np.float32)) >= sky.cos_limit(terminal.min_elevation_deg)
+    # Products written out, not ``@``: a BLAS call here would start BLAS's own
+    # threads in every worker process and oversubscribe the cores.
+    c = sky.centre
+    ux, uy, uz = (np.float32(v) for v in up_dir)
+    near = (c[..., 0] * ux + c[..., 1] * uy + c[..., 2] * uz) >= sky.cos_limit(terminal.min_elevation_deg)
     bs, bb = np.nonzero(near)
     T, k = sky.window.count, sky.block
     offs = np.arange(k)
@@ -179,7 +183,8 @@ def site_tracks(sky: SharedSky, observer: Observer, terminal: Terminal) -> SkyTr
     keep = idx < T
     sat, idx = sat[keep], idx[keep]
     d = sky.xyz[sat, idx].astype(np.float64) - site
-    e, n, u = d @ enu[0], d @ enu[1], d @ enu[2]
+    dx, dy, dz = d[:, 0], d[:, 1], d[:, 2]
+    e, n, u = (dx * r[0] + dy * r[1] + dz * r[2] for r in enu)
     rng = np.sqrt(e * e + n * n + u * u)
     # At or above the minimum elevation: up >= range * sin(min), before any arcsin
     # (NaN, a failed SGP4 sample, compares False).
