@@ -175,14 +175,38 @@ def test_an_unusable_input_is_refused_whole_with_exit_2_and_nothing_written(tmp_
 
 @pytest.mark.parametrize("argv, fragment", [
     (["--workers", "0"], "--workers: expected 1 to 1024"),
+    (["--out", "{sites}"], "is the input: the results would overwrite it"),
     (["--hours", "0"], "--hours: expected more than 0"),
     (["--workers", "2", "--scheduler", "tcp://127.0.0.1:1"], "give --workers or --scheduler, not both"),
 ])
 def test_bad_options_are_refused_before_any_work(tmp_path, capsys, argv, fragment):
     sites = tmp_path / "sites.csv"
     sites.write_text(HEADER + GOOD_ROWS[0] + "\n", "utf-8")
+    argv = [a.format(sites=sites) for a in argv]
     code, _, err = run(["batch", str(sites), "--out", str(tmp_path / "r.csv"), *argv], capsys)
     assert code == 2 and fragment in err, err
+    assert sites.read_text("utf-8") == HEADER + GOOD_ROWS[0] + "\n"
+
+
+def test_a_shell_file_is_the_fleet_as_for_assess(tmp_path, capsys):
+    shells = tmp_path / "shells.toml"
+    shells.write_text('[[shell]]\nname = "test-53"\naltitude_km = 550\ninclination_deg = 53\nplanes = 12\n'
+                      'per_plane = 10\nphasing = 1\n', "utf-8")
+    sites = tmp_path / "sites.csv"
+    sites.write_text(HEADER + GOOD_ROWS[0] + "\n", "utf-8")
+    out = tmp_path / "r.csv"
+    code, _, err = run(["batch", str(sites), "--out", str(out), "--shells", str(shells), "--workers", "1", *WINDOW],
+                       capsys)
+    assert code == 0, err
+    assert "propagated 120 satellites" in err
+    got = read_csv(out)[0]
+    path = tmp_path / "site.toml"
+    path.write_text(site_toml(GOOD_ROWS[0]), "utf-8")
+    code, text, err = run(["assess", str(path), "--json", "--shells", str(shells), *WINDOW], capsys)
+    want = json.loads(text)
+    assert got["verdict"] == want["verdict"] and "illustrative" not in got["warnings"]
+    for key in ("blocked_fraction", "availability", "interruption"):
+        assert pct(float(got[key]), 2) == pct(want[key], 2)
 
 
 def test_a_folder_of_site_files_is_a_batch_with_each_files_own_window(tmp_path, capsys):

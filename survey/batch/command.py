@@ -120,6 +120,10 @@ def _check_args(args) -> None:
             problems.items.extend(exc.problems)
     if not args.input.exists():
         problems.add("INPUT", f"{args.input}: not found (a sites CSV or a folder of site files)")
+    elif args.input.is_file() and out.exists() and out.resolve() == args.input.resolve():
+        problems.add("--out", f"{out}: is the input: the results would overwrite it")
+    if args.db is not None and out.exists() and out.resolve() == args.db.resolve():
+        problems.add("--out", f"{out}: is the register (--db)")
     problems.raise_if_any()
 
 
