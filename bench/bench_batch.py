@@ -112,10 +112,14 @@ def main(argv=None) -> int:
         took, err = timed(LEOSITE + ["batch", str(sites), "--out", str(tmp / "r.csv"), "--workers",
                                      str(args.workers), *WINDOW])
         prop = float(re.search(r"once for [\d,]+ sites in ([\d.]+) s", err).group(1))
+        import resource
+
+        peak_mb = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
         rate = args.sites / took
         print(f"leosite batch, {args.sites:,} sites, --workers {args.workers} (proc): {took:8.2f} s   "
               f"{rate:6.1f} sites/s  (target < 60 s for 1,000)")
         print(f"  of which the shared propagation         : {prop:8.2f} s (once for the window)")
+        print(f"  peak memory of one process of it        : {peak_mb:8.0f} MB")
         # One assess per site, on a sample of the same sites written as site files.
         rows = read_sites_csv(sites)[:args.sample]
         per = []

@@ -128,3 +128,46 @@ def test_sigkill_at_random_moments_leaves_a_consistent_register_and_no_torn_resu
     assert statuses[-1] == "done" and len(statuses) == 4
     assert con.execute("SELECT count(*) FROM assessments WHERE batch_id = ?", (len(statuses),)).fetchone()[0] == SITES
     con.close()
+
+
+def _children(pid: int) -> list[int]:
+    try:
+        with open(f"/proc/{pid}/task/{pid}/children", encoding="ascii") as fh:
+            return [int(x) for x in fh.read().split()]
+    except OSError:
+        return []
+
+
+def _alive(pid: int) -> bool:
+    try:
+        with open(f"/proc/{pid}/status", encoding="ascii") as fh:
+            state = next(line for line in fh if line.startswith("State:"))
+    except (OSError, StopIteration):
+        return False
+    return "Z" not in state.split()[1]  # a zombie has ended (its parent is gone, nobody reaps it yet)
+
+
+def test_worker_processes_end_when_the_batch_is_killed(tmp_path):
+    """SIGKILL runs no cleanup: the local workers notice their parent is gone."""
+    import os
+
+    if not os.path.exists("/proc/self/task"):
+        import pytest
+
+        pytest.skip("needs Linux /proc to find the worker processes")
+    sites, out, db = tmp_path / "sites.csv", tmp_path / "results.csv", tmp_path / "register.sqlite"
+    write_sites(sites)
+    argv = ["batch", str(sites), "--out", str(out), "--db", str(db), "--workers", "2",
+            "--start", "2026-06-01T00:00:00Z", "--hours", "6", "--step", "30"]
+    child = subprocess.Popen([sys.executable, "-c", CHILD, *argv], cwd=ROOT, stderr=subprocess.PIPE, text=True)
+    wait_for(db, 5, child)
+    workers = _children(child.pid)
+    child.send_signal(signal.SIGKILL)
+    child.communicate(timeout=60)
+    assert workers, "no worker processes seen"
+    t0 = time.monotonic()
+    while any(_alive(p) for p in workers) and time.monotonic() - t0 < 10:
+        time.sleep(0.1)
+    assert not any(_alive(p) for p in workers)
+    check_register(db)
+    assert not out.exists() or check_results(out)

@@ -221,8 +221,11 @@ def run(args) -> int:
             tasks = runner.run_cluster(context, good, args.scheduler)
         else:
             tasks = runner.run_local(context, good, args.workers or runner.default_workers())
-        for batch in tasks:
-            finish(batch)
+        try:
+            for batch in tasks:
+                finish(batch)
+        finally:
+            tasks.close()  # stops the pool or the cluster's tasks at once when stopped early
         progress.close()
         write_results(args.results, results)
         status = "done"

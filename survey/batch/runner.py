@@ -27,6 +27,24 @@ def _init_worker(context: Context) -> None:
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # the coordinating process handles Ctrl-C and SIGTERM
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    _leave_with_parent()
+
+
+def _leave_with_parent() -> None:
+    """A worker whose coordinating process is gone (killed with SIGKILL, which
+    runs no cleanup) ends within a second instead of waiting on its queue forever."""
+    import threading
+    import time
+
+    parent = os.getppid()
+
+    def watch() -> None:
+        while True:
+            time.sleep(1.0)
+            if os.getppid() != parent:
+                os._exit(1)
+
+    threading.Thread(target=watch, name="leosite-parent-watch", daemon=True).start()
 
 
 def _assess_in_worker(rows: list[BatchRow]) -> list[SiteResult]:
