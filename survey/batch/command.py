@@ -210,6 +210,7 @@ def run(args) -> int:
                 if register is not None:
                     w = r.inputs.get("site", {}).get("window")
                     register.record(r, fleet_rows.get(_window_key(w)) if w else None)
+                r.inputs, r.result = {}, {}  # recorded: only the results CSV's figures are kept till the end
                 results.append(r)
             if timed:
                 progress.update(len(batch), sum(r.failed for r in batch))
