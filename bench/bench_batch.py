@@ -144,7 +144,7 @@ def main(argv=None) -> int:
               f"{(per_site - tracks) * 1e3:.1f} ms")
         overhead = took - prop - args.sites * per_site / args.workers
         print(f"  start-up, reading, CSV and pool (rest)  : {overhead:8.2f} s")
-        for n in (10_000, 100_000):
+        for n in (n for n in (10_000, 100_000) if n > args.sites):
             est = prop + overhead + n * per_site / args.workers
             print(f"projected {n:>7,} sites, {args.workers} cores          : {est:8.1f} s "
                   f"({est / 60:.1f} min; the shared part stays {prop:.1f} s)")
