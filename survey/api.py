@@ -21,6 +21,8 @@ from typing import TYPE_CHECKING
 
 from . import palette
 from .angles import format_dms, parse_angle
+from .batch.register import list_assessments, recorded_site
+from .batch.results import read_results
 from .cli import Command, add_run_options, check_run_args
 from .cli import main as command_line
 from .demos import DemoSite, bundled_demo, demo_sites, resolve_site_path
@@ -43,6 +45,7 @@ from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, len
 
 __all__ = [
     "combined_mask", "site_photo_skyline",
+    "list_assessments", "read_results", "recorded_site",
     "length_number",
     "measured_mask",
     "cone_edge", "nice_ceil", "nice_floor", "points_in_polygon",

@@ -58,6 +58,8 @@ class Command:
 # function, and is named here, one line each.
 COMMAND_MODULES: tuple[str, ...] = (
     "photo.command",
+    "batch.command",
+    "batch.register_command",
 )
 
 

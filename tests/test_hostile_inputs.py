@@ -477,3 +477,34 @@ def test_report_json_route_reader(tmp_path_factory, text):
     path = tmp_path_factory.mktemp("rr") / "r.json"
     path.write_text(text, encoding="utf-8", errors="surrogatepass")
     only_our_error(load_report_inputs, path)
+
+# The batch's sites CSV (issue 16, README "Batch runs"): a seed it accepts, and
+# splices of it.  Rows may fail one by one (each naming file, line and column);
+# the file as a whole is either read or refused with our one-line error.
+SITES_CSV_SEED = ("id,latitude,longitude,elevation_m,height_m,min_elevation_deg,reference,horizon\n"
+                  "farm-1,45.3182,-72.6415,212,6.5,25,magnetic,95:9;135:36;262:31\n"
+                  "\"croft, south\",-45.03,169.2,,,,true,\n")
+
+
+def test_sites_csv_seed_is_accepted(tmp_path):
+    from survey.batch.inputs import read_sites_csv
+
+    path = tmp_path / "sites.csv"
+    path.write_text(SITES_CSV_SEED, encoding="utf-8")
+    rows = read_sites_csv(path)
+    assert [(r.id, r.problems) for r in rows] == [("farm-1", []), ("croft, south", [])]
+    assert rows[0].site.horizon.reference == "magnetic" and len(rows[0].site.horizon.points) == 3
+
+
+@FUZZ
+@given(spliced(SITES_CSV_SEED))
+def test_sites_csv_reader(tmp_path_factory, text):
+    from survey.batch.inputs import read_sites_csv
+
+    path = tmp_path_factory.mktemp("batch") / "sites.csv"
+    path.write_text(text, encoding="utf-8", errors="surrogatepass")
+    rows = only_our_error(read_sites_csv, path)
+    if rows is None:  # read: every row is a site or has problems that name the file and the line
+        for row in read_sites_csv(path):
+            assert (row.site is None) == bool(row.problems)
+            assert all(p.startswith(f"{path}: line ") for p in row.problems), row.problems

@@ -17,6 +17,7 @@ class StartScreen(Screen):
     BINDINGS = [
         Binding("n", "choose('new')", "New site"),
         Binding("o", "choose('open')", "Open file"),
+        Binding("b", "choose('batch')", "Open a batch"),
         Binding("f1", "app.safety", "Safety"),
         Binding("ctrl+q", "app.quit", "Quit"),
     ]
@@ -28,7 +29,8 @@ class StartScreen(Screen):
             options = [Option("＋ Start a new site", id="new"), None]
             for i, demo in enumerate(demo_sites()):
                 options.append(Option(f"◇ Demo: {demo.name} — {demo.blurb}", id=f"demo-{i}"))
-            options += [None, Option("… Open a site file (site.toml)", id="open")]
+            options += [None, Option("… Open a site file (site.toml)", id="open"),
+                        Option("… Open a batch: results CSV or site register (read-only)", id="batch")]
             yield OptionList(*options, id="start-options")
             yield Static("Demo sites open as a copy in ./leosite-sites, so the bundled files stay as they are.",
                          classes="hint")
@@ -46,5 +48,13 @@ class StartScreen(Screen):
             self.app.action_new_site()
         elif what == "open":
             self.app.action_open_site()
+        elif what == "batch":
+            from .batch_list import check_batch_path, open_batch
+            from .dialogs.ask_text import AskText
+
+            self.app.push_screen(AskText("Open a batch's results", "", "A results CSV or a site register "
+                                         "(leosite batch --out / --db); nothing in it is changed.", check_batch_path,
+                                         placeholder="results.csv or register.sqlite"),
+                                 lambda text: open_batch(self.app, text))
         elif what.startswith("demo-"):
             self.app.open_demo(demo_sites()[int(what.removeprefix("demo-"))])
