@@ -56,7 +56,9 @@ class Command:
 # Subcommands kept in modules of their own (one concept a module): each such
 # module defines ``COMMAND = Command(...)``, imports what is heavy inside its run
 # function, and is named here, one line each.
-COMMAND_MODULES: tuple[str, ...] = ()
+COMMAND_MODULES: tuple[str, ...] = (
+    "terrain.command",
+)
 
 
 def engine_commands() -> tuple[Command, ...]:

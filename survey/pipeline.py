@@ -114,6 +114,17 @@ def horizon_warnings(site: Site) -> list[str]:
             "measure in those directions"]
 
 
+def terrain_notes(site: Site, mask: HorizonMask) -> list[str]:
+    """What a run says about its terrain horizon: the elevation model's gaps and
+    voids, and a ground height far from the model's (survey/terrain/)."""
+    if site.terrain is None:
+        return []
+    from .terrain import ground_warning, site_terrain, terrain_of
+
+    th = terrain_of(mask) or site_terrain(site)
+    return list(th.warnings) + ground_warning(site, th)
+
+
 def mount_warnings(site: Site) -> list[str]:
     """What a run says about a mount placed on the plan (``mount.at``)."""
     if site.mount.at is None:
@@ -204,6 +215,7 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
     if site.horizon.reference == "magnetic":  # the declination only matters for compass bearings
         notes.extend(dec.warnings)
     notes.extend(mount_warnings(site))
+    notes.extend(terrain_notes(site, mask))
     notes.extend(window_warnings(window, fleet))
     if site.mount.at is None and site.plan is None:
         notes.extend(horizon_warnings(site))

@@ -18,6 +18,7 @@ from .fileio import parse_toml, read_text
 from .horizon import MAX_HORIZON_POINTS, HorizonProfile, parse_point, read_horizon_csv, too_many_points
 from .plan import PLAN_RADIUS_M, Plan, plan_from_site_table
 from .tables import Table
+from .terrain.spec import TerrainSpec, terrain_from_site_table
 from .window import MAX_HOURS, MAX_STEP_S, MIN_STEP_S
 
 MOUNT_KINDS = ("fixed", "vehicle", "marine")
@@ -98,6 +99,7 @@ class Site:
     # the mount height, kept in step by __post_init__; moving the mount with
     # dataclasses.replace then keeps the height the horizon was measured from.
     measured_height_m: float | None = None
+    terrain: TerrainSpec | None = None  # [terrain]: the elevation model (survey/terrain/)
 
     def __post_init__(self):
         if self.mount.at is None:
@@ -150,9 +152,9 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     problems = Problems(str(path))
     for key in doc:
         if key not in ("site", "mount", "terminal", "horizon", "window", "criteria", "schedule", "survey",
-                       "plan"):
+                       "plan", "terrain"):
             problems.add(key, "unknown table (expected site, mount, terminal, horizon, window, "
-                              "criteria, schedule, survey, plan)")
+                              "criteria, schedule, survey, plan, terrain)")
     if "site" not in doc:
         problems.add("site", "missing table [site] with name, latitude, longitude")
     s = Table(doc.get("site", {}), "site", problems, ("name", "latitude", "longitude", "elevation_m"))
@@ -237,9 +239,11 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     if "plan" in doc:  # a GeoJSON plan is placed by the site point: only with a valid one
         plan = plan_from_site_table(doc["plan"], path, problems, (lat, lon) if origin_ok else None)
 
+    terrain = terrain_from_site_table(doc["terrain"], path, problems) if "terrain" in doc else None
+
     problems.raise_if_any()
     return Site(name, lat, lon, elev, mount, terminal, HorizonProfile(tuple(points), reference),
-                criteria, schedule, window, survey, path, plan, measured_height)
+                criteria, schedule, window, survey, path, plan, measured_height, terrain)
 
 
 def _mount_at(m: Table, problems: Problems) -> tuple[float, float] | None:

@@ -27,8 +27,8 @@ from .horizon import HorizonPoint
 from .plan import plan_tables
 from .site import Criteria, Schedule, Site, site_from_dict
 
-TABLE_ORDER = ("site", "mount", "terminal", "horizon", "plan", "window", "criteria", "schedule", "survey")
-KEPT_AS_WRITTEN = ("plan", "window", "criteria", "schedule")  # the editor does not change these
+TABLE_ORDER = ("site", "mount", "terminal", "horizon", "plan", "terrain", "window", "criteria", "schedule", "survey")
+KEPT_AS_WRITTEN = ("plan", "terrain", "window", "criteria", "schedule")  # the editor does not change these
 _KEY_ORDER = {
     "site": ("name", "latitude", "longitude", "elevation_m"),
     "mount": ("kind", "height_m", "east_m", "north_m"),
@@ -389,6 +389,8 @@ def _kept_from_site(site: Site) -> dict[str, dict]:
     out: dict[str, dict] = {}
     if site.plan is not None:
         out["plan"] = plan_tables(site.plan)
+    if site.terrain is not None:
+        out["terrain"] = site.terrain.as_table()
     if site.window:
         w = dict(site.window)
         if "start" in w:

@@ -30,6 +30,7 @@ import shapely
 from .errors import InputError, Problems
 from .evaluate import Evaluator
 from .horizon import HorizonMask
+from .mask import terrain_floor
 from .plan import (
     AZIMUTHS_DEG,
     Plan,
@@ -211,6 +212,7 @@ def site_scene(site, declination_deg: float, plan: Plan | None = None) -> tuple[
     points = site.horizon.to_true(declination_deg).points
     skylines, far = measured_obstacles(points, site.horizon_height_m)  # seen from where they were measured
     far_deg = HorizonMask.from_points(far).elevation_at(AZIMUTHS_DEG) if far else np.zeros(360)
+    far_deg = np.maximum(far_deg, terrain_floor(site))  # terrain applies unchanged everywhere on the plan
     return compile_plan(plan.with_skylines(skylines)), far_deg
 
 

@@ -50,6 +50,8 @@ def site_document(site: Site) -> dict:
         doc["survey"] = dict(site.survey)
     if site.plan is not None:
         doc["plan"] = plan_tables(site.plan)
+    if site.terrain is not None:  # by absolute path: the tiles are not embedded (README, "Terrain horizons")
+        doc["terrain"] = {"dem": str(site.terrain.dem.resolve()), "max_distance_km": site.terrain.max_distance_km}
     return doc
 
 
