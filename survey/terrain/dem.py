@@ -12,8 +12,10 @@ costs no more than a tile.
 
 from __future__ import annotations
 
+import contextlib
 import math
 import re
+import warnings
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -125,7 +127,7 @@ def _open_tile(path: Path) -> _Tile:
         if why:
             raise InputError(f"{path}: terrain.dem: {why}")
     try:
-        with rio.Env(CPL_LOG="/dev/null"), rio.open(path) as ds:
+        with _quiet_open(rio, path) as ds:
             if ds.driver not in ("GTiff", "SRTMHGT"):
                 raise InputError(f"{path}: terrain.dem: a {ds.driver} raster, not a GeoTIFF or an SRTM .hgt")
             if ds.count < 1 or np.dtype(ds.dtypes[0]).kind not in "iuf":
@@ -137,6 +139,8 @@ def _open_tile(path: Path) -> _Tile:
                 raise InputError(f"{path}: terrain.dem: in projected coordinates ({ds.crs.to_string()}): "
                                  "reproject it to latitude and longitude (EPSG:4326)")
             t = ds.transform
+            if t.is_identity:
+                raise InputError(f"{path}: terrain.dem: not georeferenced (no grid coordinates in the file)")
             if t.b != 0 or t.d != 0 or t.a <= 0 or t.e >= 0:
                 raise InputError(f"{path}: terrain.dem: a rotated or flipped grid: expected rows north to "
                                  "south and columns west to east")
@@ -151,6 +155,16 @@ def _open_tile(path: Path) -> _Tile:
             and tile.dlat < 1 and tile.dlon < 1):
         raise InputError(f"{path}: terrain.dem: its grid is not a latitude/longitude elevation grid")
     return tile
+
+
+@contextlib.contextmanager
+def _quiet_open(rio, path: Path):
+    """rasterio's dataset, with its Python warnings and GDAL's log quiet: what
+    is wrong is said in our words (a "not georeferenced" warning becomes an error)."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        with rio.Env(CPL_LOG="/dev/null"), rio.open(path) as ds:
+            yield ds
 
 
 def _short(exc: Exception) -> str:
@@ -259,7 +273,7 @@ def _mosaic(tiles: list[_Tile], box, name: str, lat_deg: float, lon_deg: float) 
             continue
         window = ((a0 - oi, a1 - oi), (b0 - oj, b1 - oj))
         try:
-            with rio.Env(CPL_LOG="/dev/null"), rio.open(t.path) as ds:
+            with _quiet_open(rio, t.path) as ds:
                 band = ds.read(1, window=window, masked=True)
         except Exception as exc:
             raise InputError(f"{t.path}: terrain.dem: cannot read its heights ({_short(exc)})") from None
