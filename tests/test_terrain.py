@@ -13,6 +13,7 @@ from __future__ import annotations
 import json
 import math
 import struct
+from dataclasses import replace
 
 import numpy as np
 import pytest
@@ -26,6 +27,7 @@ from survey.horizon import HorizonMask, HorizonPoint
 from survey.terrain import TERRAIN_LABEL, Dem, TerrainMask, read_dem, site_terrain, terrain_horizon
 from survey.terrain.rays import curvature_drop_m, spans_text
 
+from .helpers import DEMO as ROOT_DEMO
 from .helpers import START
 from .terrain_tiles import M_PER_DEG, grid, local_metres, write_hgt, write_tif
 
@@ -427,3 +429,36 @@ def test_spans_through_north():
     flags = np.zeros(360, bool)
     flags[[355, 356, 357, 358, 359, 0, 1, 2, 90]] = True
     assert spans_text(flags) == "90°, 355°–2°"
+
+
+def test_the_text_ui_shows_terrain_and_reassesses_for_free(tmp_path):
+    """The demo valley in the text UI: the advice says terrain; a horizon edit
+    reuses the tracks and the terrain horizon (computed once), and the saved
+    file keeps its [terrain] table."""
+    import asyncio
+    import shutil
+
+    from survey.terrain import terrain_of
+    from tui.app import LeositeApp
+    from tui.session import Assessor
+
+    shutil.copytree(ROOT_DEMO / "larchwater-hollow", tmp_path / "valley")
+    site_file = tmp_path / "valley" / "site.toml"
+
+    async def scenario():
+        app = LeositeApp(site_file, Assessor(hours=2.0), work_root=tmp_path / "work")
+        async with app.run_test(size=(120, 40)) as pilot:
+            for _ in range(600):
+                if app.latest is not None and app.advice:
+                    break
+                await pilot.pause(0.05)
+            first = app.latest
+            assert first.assessment.sectors[0].labels == (TERRAIN_LABEL,)
+            assert "terrain, cannot be cleared" in str(app.workspace.query_one("#advice").render())
+            edited = replace(first.site, horizon=replace(first.site.horizon, points=first.site.horizon.points[:-1]))
+            again = app.assessor.run(edited)  # what the app's worker does after an edit
+            assert again.tracks is first.tracks and terrain_of(again.mask) is terrain_of(first.mask)
+
+    asyncio.run(scenario())
+    api.save_site(api.load_site(site_file), site_file)
+    assert '[terrain]\ndem = "larchwater-6s.tif"' in site_file.read_text(encoding="utf-8")

@@ -12,7 +12,7 @@ from dataclasses import replace
 from ..assess import Assessment, Sector
 from ..evaluate import Evaluator
 from ..pipeline import SiteRun
-from ..terrain.advice import TERRAIN_LABEL, terrain_advice, terrain_part, terrain_words
+from ..terrain.advice import TERRAIN_LABEL, only_terrain, terrain_advice, terrain_part, terrain_words
 from ..words import azimuth_span, elevation, pct
 
 RECOMMEND_MIN_SHARE = 0.05  # sectors causing less than this share of blocked time get no advice line
@@ -42,7 +42,7 @@ def recommendations(run: SiteRun) -> list[dict]:
         if sec.blocked_share < RECOMMEND_MIN_SHARE:
             continue
         terrain = terrain_part(run.mask, sec)
-        if terrain is not None and set(sec.labels) <= {TERRAIN_LABEL}:
+        if terrain is not None and only_terrain(sec):
             out.append(terrain_advice(sec, terrain, a))  # a mountain is not trimmed
             continue
         b = what_if_cleared(run, sec)

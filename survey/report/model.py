@@ -8,6 +8,7 @@ from datetime import datetime, timezone
 from .. import __version__
 from ..pipeline import SiteRun, mount_text, result_dict
 from ..safety import notes_for
+from ..terrain.advice import only_terrain
 from ..terrain.report import terrain_method, terrain_setup
 from ..words import NBSP, azimuth, azimuth_span, coordinates, duration, elevation, length, pct, utc, window
 from .advice import recommendations
@@ -80,7 +81,7 @@ def report_model(run: SiteRun,
     sectors = [{
         "span": azimuth_span(sec.from_deg, sec.to_deg), "peak": elevation(sec.peak_elevation_deg),
         "labels": ", ".join(sec.labels) or "(unlabelled)", "share": pct(sec.blocked_share),
-        "if_cleared": pct(sec.blocked_fraction_if_cleared, 2),
+        "if_cleared": "cannot (terrain)" if only_terrain(sec) else pct(sec.blocked_fraction_if_cleared, 2),
     } for sec in a.sectors]
 
     events = sorted(o["events"], key=lambda e: -e["duration_s"])[:MAX_OUTAGE_ROWS]

@@ -7,7 +7,12 @@ from __future__ import annotations
 from ..words import azimuth_span, elevation, pct
 from .combine import TERRAIN_LABEL, TerrainMask
 
-__all__ = ["TERRAIN_LABEL", "terrain_advice", "terrain_part", "terrain_words"]
+__all__ = ["TERRAIN_LABEL", "only_terrain", "terrain_advice", "terrain_part", "terrain_words"]
+
+
+def only_terrain(sector) -> bool:
+    """Whether only terrain sets ``sector`` (its figure "if cleared" cannot happen)."""
+    return bool(sector.labels) and set(sector.labels) <= {TERRAIN_LABEL}
 
 
 def terrain_part(mask, sector) -> tuple[float, float] | None:
