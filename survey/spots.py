@@ -30,7 +30,7 @@ import shapely
 from .errors import InputError, Problems
 from .evaluate import Evaluator
 from .horizon import HorizonMask
-from .mask import terrain_floor
+from .mask import terrain_floor, with_terrain
 from .plan import (
     AZIMUTHS_DEG,
     Plan,
@@ -335,7 +335,7 @@ def rank_spots(run, plan: Plan | None = None, years: float = 0.0, spacing_m: flo
     over_time = [(y, ev.evaluate([best], y)[0]) for y in growth_years(years)]
     a = run.assessment
     if site.mount.at is not None:  # the run is at the placed mount: the survey point needs its own figures
-        a = ev.evaluator.assess(site.horizon.to_true(run.declination.declination_deg).mask())
+        a = ev.evaluator.assess(with_terrain(site, site.horizon.to_true(run.declination.declination_deg).mask()))
     survey_point = {"east_m": 0.0, "north_m": 0.0, "height_m": site.horizon_height_m,
                     "blocked_fraction": a.blocked_fraction, "availability": a.availability,
                     "interruption": a.interruption, "horizon": "measured"}

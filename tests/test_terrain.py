@@ -462,3 +462,16 @@ def test_the_text_ui_shows_terrain_and_reassesses_for_free(tmp_path):
     asyncio.run(scenario())
     api.save_site(api.load_site(site_file), site_file)
     assert '[terrain]\ndem = "larchwater-6s.tif"' in site_file.read_text(encoding="utf-8")
+
+
+def test_a_report_json_made_again_keeps_the_terrain(hill_site, tmp_path, capsys):
+    out = tmp_path / "r.json"
+    assert main(["report", str(hill_site()), "--out", str(out)]) == 0
+    doc = json.loads(out.read_text(encoding="utf-8"))
+    assert doc["inputs"]["site"]["terrain"]["max_distance_km"] == 3.0
+    assert any(line.startswith("Terrain horizon:") for line in doc["method"])
+    again = tmp_path / "again.json"
+    assert main(["report", str(out), "--out", str(again)]) == 0
+    redo = json.loads(again.read_text(encoding="utf-8"))
+    assert redo["result"]["blocked_fraction"] == doc["result"]["blocked_fraction"]
+    assert redo["result"]["sectors"][0]["labels"] == [TERRAIN_LABEL]
