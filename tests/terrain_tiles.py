@@ -30,11 +30,11 @@ def write_tif(path: Path, heights: np.ndarray, lat_north: float, lon_west: float
               dtype: str = "float32", nodata=None, crs: str = "EPSG:4326") -> Path:
     """A pixel-is-point GeoTIFF of ``heights`` whose first node is at (lat_north, lon_west)."""
     import rasterio
-    from rasterio.transform import from_origin
+    from rasterio.transform import Affine
 
     rows, cols = heights.shape
     with rasterio.open(path, "w", driver="GTiff", width=cols, height=rows, count=1, dtype=dtype, crs=crs,
-                       transform=from_origin(lon_west - step_deg / 2, lat_north + step_deg / 2, step_deg, step_deg),
+                       transform=Affine(step_deg, 0.0, lon_west - step_deg / 2, 0.0, -step_deg, lat_north + step_deg / 2),
                        nodata=nodata) as ds:
         ds.update_tags(AREA_OR_POINT="Point")
         ds.write(heights.astype(dtype), 1)

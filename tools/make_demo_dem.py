@@ -43,7 +43,7 @@ def heights(east_m: np.ndarray, north_m: np.ndarray) -> np.ndarray:
 
 def make(out: Path = OUT) -> Path:
     import rasterio
-    from rasterio.transform import from_origin
+    from rasterio.transform import Affine
 
     lat0 = round((SITE_LAT + HALF_LAT) / STEP_DEG) * STEP_DEG  # the north row's nodes, on the 6" grid
     lon0 = round((SITE_LON - HALF_LON) / STEP_DEG) * STEP_DEG
@@ -55,7 +55,7 @@ def make(out: Path = OUT) -> Path:
     z = np.rint(heights(east, north)).astype(np.int16)
     out.parent.mkdir(parents=True, exist_ok=True)
     # GDAL's transform is the corner of the first cell: half a step north-west of the node.
-    transform = from_origin(lon0 - STEP_DEG / 2, lat0 + STEP_DEG / 2, STEP_DEG, STEP_DEG)
+    transform = Affine(STEP_DEG, 0.0, lon0 - STEP_DEG / 2, 0.0, -STEP_DEG, lat0 + STEP_DEG / 2)
     with rasterio.open(out, "w", driver="GTiff", width=cols, height=rows, count=1, dtype="int16",
                        crs="EPSG:4326", transform=transform, nodata=-32768, compress="deflate", predictor=2,
                        tiled=True, blockxsize=256, blockysize=256) as ds:
