@@ -475,3 +475,20 @@ def test_a_report_json_made_again_keeps_the_terrain(hill_site, tmp_path, capsys)
     redo = json.loads(again.read_text(encoding="utf-8"))
     assert redo["result"]["blocked_fraction"] == doc["result"]["blocked_fraction"]
     assert redo["result"]["sectors"][0]["labels"] == [TERRAIN_LABEL]
+
+
+@pytest.mark.parametrize("lat0", [89.2, -89.2])  # next to the poles a degree of longitude is a few metres
+def test_near_the_poles_the_rays_stay_bounded_and_right(lat0):
+    # A flat grid of 1 x 1 arc-second nodes round the pole with a plateau 300 m
+    # higher beyond 2 km north (south near the south pole, both toward the pole).
+    d = ARCSEC
+    rows = int(0.05 / d)
+    lat_n = lat0 + 0.025
+    lat = lat_n - d * np.arange(rows)
+    toward_pole = (np.abs(lat) - abs(lat0)) * M_PER_DEG
+    z = np.where(toward_pole[:, None] >= 2000.0, 300.0, 0.0) * np.ones((1, 3601))
+    dem = Dem(z.astype(np.float32), np.ones(z.shape, bool), lat_n, 0.0, d, d, "polar", ())
+    th = terrain_horizon(dem, lat0, 0.5, 2.0, 2500.0)
+    az = 0 if lat0 > 0 else 180
+    # The plateau's edge, 2 km toward the pole, within a grid row: hand trigonometry.
+    assert th.elevation_deg[az] == pytest.approx(hand_angle(298.0, 2000.0 + 15.0), abs=0.3)

@@ -26,6 +26,7 @@ from .dem import METRES_PER_DEG, Dem
 EARTH_RADIUS_M = 6_371_000.0  # mean Earth radius (sphere), as surveying curvature corrections take it
 REFRACTION_K = 0.13  # coefficient of refraction: Gauss's value, the usual surveying one (from memory)
 REFINE = 2  # samples per grid cell along a ray
+MAX_SAMPLES_PER_RAY = 12_000  # 150 km at 12.5 m; bounds the (360, N) arrays to ~35 MB each
 AZIMUTHS_DEG = np.arange(360, dtype=np.float64)
 
 
@@ -121,8 +122,11 @@ def terrain_horizon(dem: Dem, lat_deg: float, lon_deg: float, antenna_height_m: 
                          "fill the void or use another elevation model")
     ground_m = float(ground[0])
     eye = ground_m + antenna_height_m
-    cell_m = min(dem.dlat * METRES_PER_DEG, dem.dlon * METRES_PER_DEG * max(math.cos(math.radians(lat_deg)), 1e-3))
-    step = cell_m / REFINE
+    # The grid's smaller side, but near a pole no finer than an eighth of the
+    # north-south spacing (a degree of longitude shrinks to nothing there).
+    lat_m = dem.dlat * METRES_PER_DEG
+    cell_m = max(min(lat_m, dem.dlon * METRES_PER_DEG * math.cos(math.radians(lat_deg))), lat_m / 8)
+    step = max(cell_m / REFINE, max_distance_m / MAX_SAMPLES_PER_RAY)
     count = max(int(math.floor((max_distance_m - cell_m) / step)) + 1, 1)
     dist = cell_m + step * np.arange(count)
     dist = dist[dist <= max_distance_m + 1e-6]
