@@ -278,4 +278,16 @@ def result_dict(run: SiteRun) -> dict:
         "verdict": a.verdict,
         "verdict_reason": a.verdict_reason,
         "warnings": list(run.warnings),
+        **terrain_json(run.mask),
     }
+
+
+def terrain_json(mask: HorizonMask) -> dict:
+    """``{"terrain": {...}}`` for a mask raised to a terrain horizon, else ``{}``."""
+    from .terrain import terrain_of
+
+    th = terrain_of(mask)
+    if th is None:
+        return {}
+    return {"terrain": {"source": th.source, "resolution": th.resolution, "max_distance_m": th.max_distance_m,
+                        "ground_m": round(th.ground_m, 2)}}

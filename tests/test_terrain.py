@@ -492,3 +492,23 @@ def test_near_the_poles_the_rays_stay_bounded_and_right(lat0):
     az = 0 if lat0 > 0 else 180
     # The plateau's edge, 2 km toward the pole, within a grid row: hand trigonometry.
     assert th.elevation_deg[az] == pytest.approx(hand_angle(298.0, 2000.0 + 15.0), abs=0.3)
+
+
+def test_the_demo_valley_figures_are_pinned():
+    # Recorded from the engine when the demo was made (its [window]: 2026-06-01,
+    # 24 h at 15 s, illustrative shells), as tests/test_demo_figures.py pins the
+    # other demos: a refactoring must leave them as they are.
+    run = api.run_site(api.load_site("demo:larchwater-hollow"))
+    a = run.assessment
+    assert (a.usable_samples, a.blocked_samples, a.verdict) == (95513, 6295, "marginal")
+    assert [(round(s.from_deg, 2), round(s.to_deg, 2), s.labels) for s in a.sectors] == [
+        (47.46, 124.66, (TERRAIN_LABEL,)), (172.86, 205.71, ("larch trees",))]
+    assert not run.warnings[1:]  # only the illustrative-fleet note: the demo's ground agrees with its tile
+
+
+def test_assess_json_names_the_terrain(hill_site, capsys):
+    assert main(["assess", str(hill_site()), "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert d["terrain"]["source"] == "dem/" and d["terrain"]["max_distance_m"] == 3000.0
+    assert d["terrain"]["ground_m"] == pytest.approx(500.0, abs=0.01)
+    assert d["sectors"][0]["labels"] == [TERRAIN_LABEL]
