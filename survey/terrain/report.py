@@ -15,8 +15,9 @@ def terrain_setup(mask) -> list[tuple[str, str]]:
         return []
     th = mask.terrain
     files = ", ".join(f.rsplit("/", 1)[-1] for f in th.files)
+    source = th.source if files in ("", th.source.rsplit("/", 1)[-1]) else f"{th.source} ({files})"
     return [
-        ("Terrain", f"{th.source} ({files}), {th.resolution}"),
+        ("Terrain", f"{source}, {th.resolution}"),
         ("Terrain distance", f"to {th.max_distance_m / 1000:g}{NBSP}km; ground {th.ground_m:.0f}{NBSP}m from the "
                              f"model, antenna {th.eye_m - th.ground_m:g}{NBSP}m above it"),
     ]
