@@ -40,13 +40,15 @@ from .safety import notes_for, short_note, spot_note
 from .site import MOUNT_KINDS, Mount, Schedule, Site, Terminal, load_site, parse_time, site_from_dict
 from .sitefile import save_site
 from .spots import horizon_at, rank_spots
+from .terrain.advice import only_terrain
+from .terrain.report import terrain_setup
 from .window import WindowSpec, resolve_window, window_start
 from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, length_number, pct, utc
 
 __all__ = [
     "combined_mask", "site_photo_skyline",
     "list_assessments", "read_results", "recorded_site",
-    "length_number",
+    "length_number", "only_terrain", "terrain_setup",
     "measured_mask",
     "cone_edge", "nice_ceil", "nice_floor", "points_in_polygon",
     "add_run_options", "azimuth", "azimuth_span", "bundled_demo", "centroid", "check_run_args", "Command",

@@ -24,6 +24,7 @@ from .pipeline import FleetChoice, SiteRun, mount_text, result_dict, run_site
 from .report import format_for, load_report_inputs, write_report
 from .safety import short_note, spot_note
 from .site import load_site, parse_time
+from .terrain.advice import only_terrain
 from .window import MAX_HOURS, MAX_STEP_S, MIN_STEP_S
 from .words import NBSP, azimuth_span, duration, elevation, length, length_number, pct
 
@@ -60,6 +61,7 @@ COMMAND_MODULES: tuple[str, ...] = (
     "photo.command",
     "batch.command",
     "batch.register_command",
+    "terrain.command",
 )
 
 
@@ -263,8 +265,9 @@ def format_summary(run: SiteRun) -> str:
             if len(name) > 30:
                 name = name[:29] + "…"
             span = azimuth_span(sec.from_deg, sec.to_deg)
+            cleared = "cannot" if only_terrain(sec) else pct(sec.blocked_fraction_if_cleared, 2)
             lines.append(f"    {span:<16} {elevation(sec.peak_elevation_deg):>5} {pct(sec.blocked_share):>7} "
-                         f"{pct(sec.blocked_fraction_if_cleared, 2):>10}  {name}")
+                         f"{cleared:>10}  {name}")
         lines.append("    (share of the blocked samples; blocked fraction if that sector were clear)")
     if run.warnings:
         lines += ["", "  warnings"]

@@ -43,10 +43,13 @@ def measured_mask(profile: HorizonProfile, declination_deg: float | None) -> Hor
 def true_mask(site: Site, dec: Declination) -> HorizonMask:
     """The mask the antenna sees, in true azimuths (compass bearings rotated): the
     measured horizon as-is at the survey point, or, with ``mount.at``, the horizon
-    derived there (``derived_mask``)."""
+    derived there (``derived_mask``); with ``[terrain]``, raised to the terrain
+    horizon: max(measured, terrain) (survey/terrain/combine.py)."""
     if site.mount.at is not None:
-        return with_photo(derived_mask(site, dec.declination_deg), site, dec)
-    return with_photo(measured_mask(site.horizon, dec.declination_deg), site, dec)
+        mask = derived_mask(site, dec.declination_deg)
+    else:
+        mask = measured_mask(site.horizon, dec.declination_deg)
+    return with_terrain(site, with_photo(mask, site, dec))
 
 
 PHOTO_LABEL = "photo"
@@ -98,6 +101,25 @@ def photo_notes(site: Site, dec: Declination) -> list[str]:
     how = site.photo.describe(site.horizon.reference)
     return [f"horizon from a photo ({how}): the mask is the higher of the measured points and its skyline "
             f"(Otsu threshold {sky.threshold} on the blue channel)"] + [f"photo: {w}" for w in sky.warnings]
+
+
+def with_terrain(site: Site, mask: HorizonMask) -> HorizonMask:
+    """``mask`` raised to the site's terrain horizon (unchanged without ``[terrain]``)."""
+    if site.terrain is None:
+        return mask
+    from .terrain import TerrainMask, site_terrain
+
+    return TerrainMask(mask, site_terrain(site))
+
+
+def terrain_floor(site: Site) -> np.ndarray:
+    """The site's terrain horizon as a mask at azimuths 0..359 (zeros without
+    ``[terrain]``): what spot search raises every candidate's mask to."""
+    if site.terrain is None:
+        return np.zeros(360)
+    from .terrain import site_terrain, terrain_floor_deg
+
+    return terrain_floor_deg(site_terrain(site))
 
 
 def derived_mask(site: Site, declination_deg: float) -> HorizonMask:

@@ -119,6 +119,17 @@ def horizon_warnings(site: Site) -> list[str]:
             "measure in those directions"]
 
 
+def terrain_notes(site: Site, mask: HorizonMask) -> list[str]:
+    """What a run says about its terrain horizon: the elevation model's gaps and
+    voids, and a ground height far from the model's (survey/terrain/)."""
+    if site.terrain is None:
+        return []
+    from .terrain import ground_warning, site_terrain, terrain_of
+
+    th = terrain_of(mask) or site_terrain(site)
+    return list(th.warnings) + ground_warning(site, th)
+
+
 def mount_warnings(site: Site) -> list[str]:
     """What a run says about a mount placed on the plan (``mount.at``)."""
     if site.mount.at is None:
@@ -222,6 +233,7 @@ def run_site(site: Site, fleet_choice: FleetChoice = FleetChoice(), start=None, 
     if site.horizon.reference == "magnetic":  # the declination only matters for compass bearings
         notes.extend(dec.warnings)
     notes.extend(mount_warnings(site))
+    notes.extend(terrain_notes(site, mask))
     notes.extend(window_warnings(window, fleet))
     notes.extend(photo_notes(site, dec))
     if site.mount.at is None and site.plan is None and site.photo is None:
@@ -288,6 +300,7 @@ def result_dict(run: SiteRun) -> dict:
         "verdict_reason": a.verdict_reason,
         "warnings": list(run.warnings),
         **({"platform": platform_json(run)} if run.platform is not None else {}),
+        **terrain_json(run.mask),
     }
 
 
@@ -295,3 +308,14 @@ def platform_json(run: SiteRun) -> dict:
     from .platform import platform_dict
 
     return platform_dict(run.platform, run.assessment, run.window)
+
+
+def terrain_json(mask: HorizonMask) -> dict:
+    """``{"terrain": {...}}`` for a mask raised to a terrain horizon, else ``{}``."""
+    from .terrain import terrain_of
+
+    th = terrain_of(mask)
+    if th is None:
+        return {}
+    return {"terrain": {"source": th.source, "resolution": th.resolution, "max_distance_m": th.max_distance_m,
+                        "ground_m": round(th.ground_m, 2)}}

@@ -20,6 +20,7 @@ from .horizon import MAX_HORIZON_POINTS, HorizonProfile, parse_point, read_horiz
 from .photo.spec import PhotoSpec, photo_from_horizon_table
 from .plan import PLAN_RADIUS_M, Plan, plan_from_site_table
 from .tables import Table
+from .terrain.spec import TerrainSpec, terrain_from_site_table
 from .window import MAX_HOURS, MAX_STEP_S, MIN_STEP_S
 
 if TYPE_CHECKING:
@@ -105,6 +106,7 @@ class Site:
     measured_height_m: float | None = None
     photo: PhotoSpec | None = None  # [horizon] photo: a panorama or fisheye shot (survey/photo/)
     platform: Platform | None = None  # [platform]: a moving install's heading, attitude, route (survey/platform/)
+    terrain: TerrainSpec | None = None  # [terrain]: the elevation model (survey/terrain/)
 
     def __post_init__(self):
         if self.mount.at is None:
@@ -157,9 +159,9 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     problems = Problems(str(path))
     for key in doc:
         if key not in ("site", "mount", "terminal", "horizon", "window", "criteria", "schedule", "survey",
-                       "plan", "platform"):
+                       "plan", "platform", "terrain"):
             problems.add(key, "unknown table (expected site, mount, terminal, horizon, window, "
-                              "criteria, schedule, survey, plan, platform)")
+                              "criteria, schedule, survey, plan, platform, terrain)")
     if "site" not in doc:
         problems.add("site", "missing table [site] with name, latitude, longitude")
     s = Table(doc.get("site", {}), "site", problems, ("name", "latitude", "longitude", "elevation_m"))
@@ -249,9 +251,10 @@ def site_from_dict(doc: dict, path: Path) -> Site:
     from .platform import platform_from_site  # the platform package imports the engine, which imports this
 
     platform = platform_from_site(doc, path, problems)
+    terrain = terrain_from_site_table(doc["terrain"], path, problems) if "terrain" in doc else None
     problems.raise_if_any()
     return Site(name, lat, lon, elev, mount, terminal, HorizonProfile(tuple(points), reference),
-                criteria, schedule, window, survey, path, plan, measured_height, photo, platform)
+                criteria, schedule, window, survey, path, plan, measured_height, photo, platform, terrain)
 
 
 def _mount_at(m: Table, problems: Problems) -> tuple[float, float] | None:

@@ -27,9 +27,9 @@ from .horizon import HorizonPoint
 from .plan import plan_tables
 from .site import Criteria, Schedule, Site, site_from_dict
 
-TABLE_ORDER = ("site", "mount", "terminal", "horizon", "platform", "plan", "window", "criteria", "schedule",
+TABLE_ORDER = ("site", "mount", "terminal", "horizon", "platform", "plan", "terrain", "window", "criteria", "schedule",
                "survey")
-KEPT_AS_WRITTEN = ("plan", "window", "criteria", "schedule", "platform")  # the editor does not change these
+KEPT_AS_WRITTEN = ("plan", "terrain", "window", "criteria", "schedule", "platform")  # the editor does not change these
 _KEY_ORDER = {
     "site": ("name", "latitude", "longitude", "elevation_m"),
     "mount": ("kind", "height_m", "east_m", "north_m"),
@@ -396,6 +396,8 @@ def _kept_from_site(site: Site) -> dict[str, dict]:
         out["platform"] = platform_table(site.platform, site.path.parent if site.path else None)
     if site.plan is not None:
         out["plan"] = plan_tables(site.plan)
+    if site.terrain is not None:
+        out["terrain"] = site.terrain.as_table()
     if site.window:
         w = dict(site.window)
         if "start" in w:

@@ -30,6 +30,7 @@ import shapely
 from .errors import InputError, Problems
 from .evaluate import Evaluator
 from .horizon import HorizonMask
+from .mask import terrain_floor, with_terrain
 from .plan import (
     AZIMUTHS_DEG,
     Plan,
@@ -213,6 +214,7 @@ def site_scene(site, declination_deg: float, plan: Plan | None = None) -> tuple[
     far_deg = HorizonMask.from_points(far).elevation_at(AZIMUTHS_DEG) if far else np.zeros(360)
     if site.photo is not None:  # a photo's skyline has no distances: far away, the same at every spot
         far_deg = np.maximum(far_deg, photo_by_degree(site, declination_deg))
+    far_deg = np.maximum(far_deg, terrain_floor(site))  # terrain applies unchanged everywhere on the plan
     return compile_plan(plan.with_skylines(skylines)), far_deg
 
 
@@ -345,7 +347,7 @@ def rank_spots(run, plan: Plan | None = None, years: float = 0.0, spacing_m: flo
     over_time = [(y, ev.evaluate([best], y)[0]) for y in growth_years(years)]
     a = run.assessment
     if site.mount.at is not None:  # the run is at the placed mount: the survey point needs its own figures
-        a = ev.evaluator.assess(site.horizon.to_true(run.declination.declination_deg).mask())
+        a = ev.evaluator.assess(with_terrain(site, site.horizon.to_true(run.declination.declination_deg).mask()))
     survey_point = {"east_m": 0.0, "north_m": 0.0, "height_m": site.horizon_height_m,
                     "blocked_fraction": a.blocked_fraction, "availability": a.availability,
                     "interruption": a.interruption, "horizon": "measured"}

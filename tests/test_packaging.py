@@ -32,7 +32,8 @@ def test_wheel_holds_every_package_and_the_demo_sites(wheel):
     names = set(zipfile.ZipFile(wheel).namelist())
     for need in ("survey/api.py", "survey/plan/rays.py", "survey/data/illustrative_shells.toml",
                  "tui/leosite.tcss", "tui/launch.py", "survey/demo_sites/alder-brook-farm/site.toml",
-                 "survey/demo_sites/alder-brook-farm/plan.geojson", "survey/demo_sites/mill-lane-terrace/horizon.csv"):
+                 "survey/demo_sites/alder-brook-farm/plan.geojson", "survey/demo_sites/mill-lane-terrace/horizon.csv",
+                 "survey/demo_sites/larchwater-hollow/larchwater-6s.tif"):
         assert need in names, need
 
 
@@ -57,4 +58,4 @@ def test_installed_wheel_assesses_a_demo_away_from_the_checkout(wheel, tmp_path)
                           capture_output=True, text=True, cwd=work, timeout=120)
     assert done.returncode == 0, done.stderr[-2000:]
     where, count = done.stdout.split()
-    assert where.startswith(str(target)) and int(count) == 6
+    assert where.startswith(str(target)) and int(count) == 7  # alder, mill, tussock, fernbank, wren, tern, larchwater

@@ -36,6 +36,7 @@ from .from_run import (
     sky_plot_png,
     spots_plan_figure,
     spots_plan_inputs,
+    terrain_panorama_png,
 )
 from .labels import compact_pct
 from .panorama import PanoramaFrame, horizon_panorama, panorama_frame, panorama_xy
@@ -55,7 +56,8 @@ __all__ = [
     "indexed_for_print",
     # from an assessed site
     "sky_plot_for_run", "sky_plot_png", "horizon_panorama_for_run", "outage_timeline_for_run",
-    "derived_horizon_png", "heading_chart_for_run", "route_map_for_run", "spots_plan_figure", "spots_plan_inputs", "plan_obstacles",
+    "derived_horizon_png", "heading_chart_for_run", "route_map_for_run", "terrain_panorama_png", "spots_plan_figure",
+    "spots_plan_inputs", "plan_obstacles",
     # what the text UI draws with
     "BLUE", "SKY_BLUE", "VERMILLION", "ORANGE", "REDDISH_PURPLE", "BLUISH_GREEN", "YELLOW", "DOWN_BAR",
     "duration", "compact_pct", "ObstacleShape", "obstacle_shapes", "plan_cells", "plan_extent_points",

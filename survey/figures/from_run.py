@@ -73,11 +73,38 @@ def horizon_panorama_for_run(run, size=PANO_SIZE) -> Image.Image:
         sub += f"; compass bearings rotated {_declination_text(run)} to true north (WMM2025)"
     if run.platform is not None:
         sub += "; " + BODY_FRAME_NOTE[:1].lower() + BODY_FRAME_NOTE[1:]
+    t_az, t_el = _terrain_line(run.mask)
+    if t_az.size:
+        sub += "; terrain from the elevation model"
     return horizon_panorama(
         mask_az_deg=m_az, mask_el_deg=m_el, points=points, az_deg=t.az_deg, el_deg=t.el_deg,
         blocked=run.assessment.blocked, weight_s=w.step_s,
         min_elevation_deg=s.terminal.min_elevation_deg,
-        title=f"{s.name}: horizon profile", subtitle=sub, size=size)
+        title=f"{s.name}: horizon profile", subtitle=sub, size=size, terrain_az_deg=t_az, terrain_el_deg=t_el)
+
+
+def _terrain_line(mask) -> tuple[np.ndarray, np.ndarray]:
+    """The terrain horizon a run's mask was raised to, at whole degrees (empty without one)."""
+    from ..terrain import terrain_of
+
+    th = terrain_of(mask)
+    if th is None:
+        return np.zeros(0), np.zeros(0)
+    return np.arange(360.0), th.elevation_deg
+
+
+def terrain_panorama_png(site, th, measured=None, size=PANO_SIZE) -> bytes:
+    """The terrain horizon (``terrain.TerrainHorizon``) as a panorama PNG with
+    the measured horizon (a HorizonMask in true azimuths) over it; no tracks."""
+    m_az, m_el = _dense_mask(measured) if measured is not None and not measured.is_clear else (np.zeros(0), np.zeros(0))
+    points = [] if measured is None else [(a, e, lbl) for a, e, lbl in zip(measured.az_deg, measured.el_deg,
+                                                                            measured.labels)]
+    return encode_png(horizon_panorama(
+        mask_az_deg=m_az, mask_el_deg=m_el, points=points, min_elevation_deg=site.terminal.min_elevation_deg,
+        title=f"{site.name}: terrain horizon", show_tracks=False, size=size,
+        subtitle=f"{th.source}, {th.resolution}, to {th.max_distance_m / 1000:g} km; ground {th.ground_m:.0f} m, "
+                 f"antenna {th.eye_m - th.ground_m:g} m above it; true azimuths",
+        terrain_az_deg=np.arange(360.0), terrain_el_deg=th.elevation_deg))
 
 
 def derived_horizon_png(site, derived: dict, size=PANO_SIZE) -> bytes:

@@ -17,6 +17,7 @@ from ..palette import (
     OBSTRUCTION_EDGE,
     OBSTRUCTION_FILL,
     RIM,
+    TERRAIN_LINE,
     TEXT,
     TEXT_SOFT,
     WHITE,
@@ -105,7 +106,8 @@ def _point_groups(points):
 
 def horizon_panorama(*, mask_az_deg=(), mask_el_deg=(), points=(), az_deg=(), el_deg=(),
                      blocked=None, weight_s=15.0, min_elevation_deg=25.0, title="",
-                     subtitle="", size=PANO_SIZE, show_tracks=True) -> Image.Image:
+                     subtitle="", size=PANO_SIZE, show_tracks=True, terrain_az_deg=(),
+                     terrain_el_deg=()) -> Image.Image:
     """The horizon profile unrolled, over the satellite track density
     (``show_tracks=False``: the skyline alone, no track legend or caption).
 
@@ -127,6 +129,8 @@ def horizon_panorama(*, mask_az_deg=(), mask_el_deg=(), points=(), az_deg=(), el
         shared by the clear (blue) and blocked (orange) ramps of the sky plot.
       min_elevation_deg: dashed, labelled line.
       title, subtitle: header lines.  size: (width_px, height_px), about 3:1.
+      terrain_az_deg, terrain_el_deg: the terrain horizon from an elevation
+        model (survey/terrain/), drawn as a solid line over the mask.
 
     Returns an RGB ``PIL.Image``; :func:`panorama_frame` gives the plot area.
     """
@@ -142,6 +146,7 @@ def horizon_panorama(*, mask_az_deg=(), mask_el_deg=(), points=(), az_deg=(), el
     dens = _tracks_layer(sheet, fr, az, el, blk, weight_s, m_az, m_el)
     _grid_layer(sheet, fr)
     has_mask = _skyline_layer(sheet, fr, m_az, m_el, me)
+    has_terrain = _terrain_layer(sheet, fr, terrain_az_deg, terrain_el_deg)
     r_pt = 5.0 * sheet.u
     pxy = [tuple(float(v) for v in panorama_xy(a, e, fr)) for a, e, _ in pts]
     keep = r_pt + 3 * sheet.u  # labels keep clear of every point's ring
@@ -152,7 +157,7 @@ def horizon_panorama(*, mask_az_deg=(), mask_el_deg=(), points=(), az_deg=(), el
     U = sheet.u
     m = 20 * U
     header(sheet.draw, m, 12 * U, sheet.width - 2 * m, title, subtitle, U)
-    _legend(sheet, fr, dens, has_mask, me, bool(pts), r_pt, show_tracks)
+    _legend(sheet, fr, dens, has_mask, me, bool(pts), r_pt, show_tracks, has_terrain)
     return sheet.finish()
 
 
@@ -213,6 +218,22 @@ def _skyline_layer(sheet: Sheet, fr: PanoramaFrame, m_az, m_el, me: float) -> bo
     draw.rectangle((fr.left, fr.top, fr.right, fr.bottom), outline=RIM, width=int(round(2.0 * U)))
     dashed_hline(draw, fr.left, fr.right, fr.bottom - fr.height * me / 90.0, 2.6 * U, 11 * U, 7 * U, BLACK)
     return has_mask
+
+
+def _terrain_layer(sheet: Sheet, fr: PanoramaFrame, t_az, t_el) -> bool:
+    """The terrain horizon as a solid line (clipped to the plot: terrain that
+    falls away draws along the bottom); whether there is one."""
+    t_az, t_el = np.asarray(t_az, dtype=np.float64), np.asarray(t_el, dtype=np.float64)
+    if t_az.size == 0:
+        return False
+    el = np.clip(np.nan_to_num(t_el, nan=0.0), 0.0, 90.0)
+    order = np.argsort(t_az % 360.0)
+    a, e = t_az[order] % 360.0, el[order]
+    e0 = float(np.interp(0.0, a, e, period=360.0))
+    xs, ys = panorama_xy(np.concatenate([[0.0], a, [360.0]]), np.concatenate([[e0], e, [e0]]), fr)
+    sheet.draw.line(list(zip(xs.tolist(), ys.tolist())), fill=TERRAIN_LINE, width=int(round(3.4 * sheet.u)),
+                    joint="curve")
+    return True
 
 
 def _min_label(sheet: Sheet, fr: PanoramaFrame, m_az, m_el, me: float, occupied: list) -> None:
@@ -306,12 +327,15 @@ def _axes(sheet: Sheet, fr: PanoramaFrame) -> None:
 
 
 def _legend(sheet: Sheet, fr: PanoramaFrame, dens: Density, has_mask, me, has_points, r_pt,
-            show_tracks) -> None:
+            show_tracks, has_terrain=False) -> None:
     """One legend row under the axis and the caption lines below it."""
     draw, U = sheet.draw, sheet.u
     B, m = fr.bottom, 20 * U
     items = track_items(dens, "Clear tracks", "Blocked tracks", " {}") if show_tracks else []
     items += mask_items(has_mask, me)
+    if has_terrain:
+        items.append((lambda d, x, y, w, h, u: d.line((x, y + h / 2, x + w, y + h / 2), fill=TERRAIN_LINE,
+                                                      width=int(round(3.4 * u))), "Terrain horizon"))
     if has_points:
         items.append((lambda d, x, y, w, h, u: _point_ring(d, x + w / 2, y + h / 2, r_pt, u),
                       "Measured point"))

@@ -1,14 +1,18 @@
 """Plain-words advice: each costly obstruction sector cleared and the site
 re-assessed (the scheduling assignment reused: evaluate.Evaluator), said the
-way an installer would say it (trim a tree, clear or mount above a building)."""
+way an installer would say it (trim a tree, clear or mount above a building);
+terrain from an elevation model is said to be terrain, which cannot be
+cleared (survey/terrain/advice.py), never something to trim."""
 
 from __future__ import annotations
 
 import re
+from dataclasses import replace
 
 from ..assess import Assessment, Sector
 from ..evaluate import Evaluator
 from ..pipeline import SiteRun
+from ..terrain.advice import TERRAIN_LABEL, only_terrain, terrain_advice, terrain_part, terrain_words
 from ..words import azimuth_span, elevation, pct
 
 RECOMMEND_MIN_SHARE = 0.05  # sectors causing less than this share of blocked time get no advice line
@@ -37,13 +41,20 @@ def recommendations(run: SiteRun) -> list[dict]:
     for sec in a.sectors[:MAX_RECOMMENDATIONS]:
         if sec.blocked_share < RECOMMEND_MIN_SHARE:
             continue
+        terrain = terrain_part(run.mask, sec)
+        if terrain is not None and only_terrain(sec):
+            out.append(terrain_advice(sec, terrain, a))  # a mountain is not trimmed
+            continue
         b = what_if_cleared(run, sec)
         verb = "Trimming or removing" if _looks_like_vegetation(sec.labels) else "Clearing or mounting above"
-        text = (f"{verb} {_sector_name(sec)} (peak {elevation(sec.peak_elevation_deg)}) would cut blocked time "
+        name = _sector_name(replace(sec, labels=tuple(lbl for lbl in sec.labels if lbl != TERRAIN_LABEL)))
+        text = (f"{verb} {name} (peak {elevation(sec.peak_elevation_deg)}) would cut blocked time "
                 f"from {pct(a.blocked_fraction)} to {pct(b.blocked_fraction)}")
         if pct(a.interruption) != pct(b.interruption):
             text += f" and interruption from {pct(a.interruption)} to {pct(b.interruption)}"
         text += f"; the verdict would be {b.verdict}."
+        if terrain is not None:
+            text += f" The terrain there ({terrain_words(terrain)}) stays: terrain, cannot be cleared."
         out.append({
             "from_deg": round(float(sec.from_deg), 2), "to_deg": round(float(sec.to_deg), 2),
             "labels": list(sec.labels), "blocked_share": sec.blocked_share,

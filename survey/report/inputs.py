@@ -58,6 +58,8 @@ def site_document(site: Site) -> dict:
         doc["platform"] = {k: v for k, v in platform_table(site.platform).items() if k != "route"}
         if site.platform.frame == "body":
             doc["horizon"]["frame"] = "body"
+    if site.terrain is not None:  # by absolute path: the tiles are not embedded (README, "Terrain horizons")
+        doc["terrain"] = {"dem": str(site.terrain.dem.resolve()), "max_distance_km": site.terrain.max_distance_km}
     return doc
 
 

@@ -8,6 +8,8 @@ from datetime import datetime, timezone
 from .. import __version__
 from ..pipeline import SiteRun, mount_text, result_dict
 from ..safety import notes_for
+from ..terrain.advice import only_terrain
+from ..terrain.report import terrain_method, terrain_setup
 from ..words import NBSP, azimuth, azimuth_span, coordinates, duration, elevation, length, pct, utc, window
 from .advice import recommendations
 from .inputs import REPORT_KIND, REPORT_VERSION, report_id, report_inputs
@@ -76,12 +78,12 @@ def report_model(run: SiteRun,
         ("Minimum elevation", elevation(s.terminal.min_elevation_deg)),
         ("Field of view", fov),
         ("Usable sky samples", f"{a.usable_samples:,} satellite positions, {a.blocked_samples:,} of them blocked"),
-    ]
+    ] + terrain_setup(run.mask)
 
     sectors = [{
         "span": azimuth_span(sec.from_deg, sec.to_deg), "peak": elevation(sec.peak_elevation_deg),
         "labels": ", ".join(sec.labels) or "(unlabelled)", "share": pct(sec.blocked_share),
-        "if_cleared": pct(sec.blocked_fraction_if_cleared, 2),
+        "if_cleared": "cannot (terrain)" if only_terrain(sec) else pct(sec.blocked_fraction_if_cleared, 2),
     } for sec in a.sectors]
 
     events = sorted(o["events"], key=lambda e: -e["duration_s"])[:MAX_OUTAGE_ROWS]
@@ -197,7 +199,7 @@ def method_text(run: SiteRun) -> list[str]:
         f"{pct(s.criteria.marginal_max_blocked)} and {pct(s.criteria.marginal_max_interruption)}; "
         f"not-qualified below {pct(s.criteria.min_availability)} availability.",
         "What-if figures re-assess the same satellite tracks with that sector's mask set to zero.",
-    ]
+    ] + terrain_method(run.mask)
 
 
 FIGURE_CAPTIONS = {

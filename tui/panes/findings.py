@@ -11,7 +11,7 @@ from textual.app import ComposeResult
 from textual.containers import Vertical, VerticalScroll
 from textual.widgets import Static
 
-from survey.api import Schedule, SiteRun, pct, route_down_time
+from survey.api import Schedule, SiteRun, only_terrain, pct, route_down_time, terrain_setup
 from survey.api import duration as fmt_duration
 
 from ..verdicts import verdict_text
@@ -145,7 +145,8 @@ class FindingsPane(VerticalScroll):
             t.add_column("Labels", overflow="fold")
             for sec in a.sectors[:8]:
                 t.add_row(f"{sec.from_deg:5.1f}°–{sec.to_deg:5.1f}°", f"{sec.peak_elevation_deg:.1f}°",
-                          pct(sec.blocked_share), pct(sec.blocked_fraction_if_cleared),
+                          pct(sec.blocked_share),
+                          "cannot" if only_terrain(sec) else pct(sec.blocked_fraction_if_cleared),
                           Text(", ".join(sec.labels) or "(unlabelled)"))
             self.query_one("#sectors", Static).update(t)
         else:
@@ -169,6 +170,8 @@ class FindingsPane(VerticalScroll):
                         "(the site file's [schedule] reassign_s)\n")
         assessed.append(f"Compass  declination {run.declination.declination_deg:+.2f}° (WMM2025); bearings "
                         + ("magnetic, turned to true" if s.horizon.reference == "magnetic" else "true"))
+        for label, value in terrain_setup(run.mask):  # the elevation model, with [terrain]
+            assessed.append(f"\n{label}  {value}")
         self.query_one("#assessed", Static).update(assessed)
         warn = Text()
         if run.warnings:
