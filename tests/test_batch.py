@@ -335,3 +335,43 @@ def test_default_window_is_one_day_from_today_for_every_row(tmp_path, capsys):
     start = sqlite3.connect(db).execute("SELECT window_start_utc FROM assessments").fetchone()[0]
     today = datetime.now(timezone.utc).replace(hour=0, minute=0, second=0, microsecond=0)
     assert start in (today.strftime("%Y-%m-%dT%H:%M:%SZ"), (today - timedelta(days=1)).strftime("%Y-%m-%dT%H:%M:%SZ"))
+
+
+def test_dem_gives_every_site_its_terrain_horizon_as_assess_does(tmp_path, capsys):
+    """batch --dem (issue 17): a sites CSV on the invented valley tile gives the
+    figures `leosite assess` gives the same site written with [terrain] (README,
+    "Batch runs"); without --dem the ridge is missing and the sky is clearer; a
+    site file's own [terrain] is kept."""
+    tile = DEMO / "larchwater-hollow" / "larchwater-6s.tif"
+    row = "cabin,45.618,-110.902,884,4,25,true,"
+    sites = tmp_path / "sites.csv"
+    sites.write_text(HEADER + row + "\n", "utf-8")
+    with_dem, without = tmp_path / "dem.csv", tmp_path / "plain.csv"
+    code, _, err = run(["batch", str(sites), "--out", str(with_dem), "--workers", "1", "--dem", str(tile),
+                        "--dem-km", "25", *WINDOW], capsys)
+    assert code == 0, err
+    code, _, err = run(["batch", str(sites), "--out", str(without), "--workers", "1", *WINDOW], capsys)
+    assert code == 0, err
+    site = tmp_path / "cabin.toml"
+    site.write_text(site_toml(row) + f'[terrain]\ndem = "{tile.as_posix()}"\nmax_distance_km = 25\n', "utf-8")
+    code, text, err = run(["assess", str(site), "--json", *WINDOW], capsys)
+    assert code == 0, err
+    want = json.loads(text)
+    (got,), (plain,) = read_csv(with_dem), read_csv(without)
+    # Within 0.02 %: the batch runs SGP4 at every sample and assess between minute
+    # points (README, "Batch runs"), so a sample grazing the ridge's edge can flip.
+    for key in ("blocked_fraction", "availability", "interruption"):
+        assert abs(float(got[key]) - want[key]) <= 2e-4, (key, got[key], want[key])
+    assert float(got["blocked_fraction"]) > float(plain["blocked_fraction"]) + 0.02  # the ridge stands above 25°
+
+
+@pytest.mark.parametrize("argv, fragment", [
+    (["--dem", "no-such-tiles"], "--dem:"),
+    (["--dem-km", "10"], "--dem-km: needs --dem"),
+])
+def test_bad_dem_options_are_refused(tmp_path, capsys, argv, fragment):
+    sites = tmp_path / "sites.csv"
+    sites.write_text(HEADER + GOOD_ROWS[0] + "\n", "utf-8")
+    code, _, err = run(["batch", str(sites), "--out", str(tmp_path / "r.csv"), *argv], capsys)
+    assert code == 2 and fragment in err and "Traceback" not in err, err
+    assert not (tmp_path / "r.csv").exists()

@@ -41,6 +41,11 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--reports", metavar="DIR", type=Path, help="also write each site's report into DIR")
     p.add_argument("--report-format", choices=REPORT_FORMATS, default="pdf", help="report format (default pdf)")
     p.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper size (default a4)")
+    p.add_argument("--dem", metavar="PATH", type=Path,
+                   help="elevation tiles (an SRTM .hgt or GeoTIFF file, or a folder of them) for every site without "
+                        "its own [terrain]: the mask is max(measured, terrain)")
+    p.add_argument("--dem-km", metavar="KM", type=float,
+                   help="how far the terrain rays go with --dem, km (default 30)")
 
 
 class _Stopped(Exception):
@@ -124,7 +129,26 @@ def _check_args(args) -> None:
         problems.add("--out", f"{out}: is the input: the results would overwrite it")
     if args.db is not None and out.exists() and out.resolve() == args.db.resolve():
         problems.add("--out", f"{out}: is the register (--db)")
+    args.terrain = _terrain_option(args, problems)
     problems.raise_if_any()
+
+
+def _terrain_option(args, problems: Problems):
+    """--dem and --dem-km as the [terrain] table every site without its own takes
+    (the site file's reader checks them, by the same rules)."""
+    if args.dem is None:
+        if args.dem_km is not None:
+            problems.add("--dem-km", "needs --dem")
+        return None
+    from ..terrain.spec import DEFAULT_DISTANCE_KM, terrain_from_site_table
+
+    table = {"dem": str(args.dem.resolve()),
+             "max_distance_km": args.dem_km if args.dem_km is not None else DEFAULT_DISTANCE_KM}
+    found = Problems("command line")
+    spec = terrain_from_site_table(table, Path("command line"), found)
+    for line in found.items:  # "command line: terrain.dem: ..." as the options are named
+        problems.items.append(line.replace("terrain.max_distance_km", "--dem-km").replace("terrain.dem", "--dem"))
+    return spec
 
 
 def report_name(ident: str, line: int, taken: set[str], ext: str) -> str:
@@ -150,7 +174,7 @@ def run(args) -> int:
     from .sky import check_shared_size, propagate
     from .work import Context, Settings, SiteResult, failed_row
 
-    rows = read_batch_input(args.input)
+    rows = read_batch_input(args.input, terrain=args.terrain)
     if not rows:
         raise InputError(f"{args.input}: no sites: a header and no rows")
     now = datetime.now(timezone.utc)
@@ -262,7 +286,7 @@ def _window_key(w) -> tuple:
 def _options(args) -> dict:
     """The command line's options as recorded for the batch."""
     return {k: (str(v) if isinstance(v, (Path, datetime)) else v) for k, v in vars(args).items()
-            if k not in ("command",) and v is not None}
+            if k not in ("command", "terrain") and v is not None}  # terrain: --dem and --dem-km say it
 
 
 COMMAND = Command(

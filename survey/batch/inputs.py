@@ -16,12 +16,13 @@ from __future__ import annotations
 
 import csv
 import io
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from ..errors import InputError, Problems
 from ..fileio import read_text
 from ..site import Site, load_site, site_from_dict
+from ..terrain.spec import TerrainSpec
 
 REQUIRED = ("id", "latitude", "longitude")
 OPTIONAL = ("elevation_m", "height_m", "min_elevation_deg", "reference", "horizon")
@@ -49,12 +50,17 @@ class BatchRow:
     source: dict = field(default_factory=dict)  # the row as typed (CSV cells), for the register
 
 
-def read_batch_input(path: str | Path) -> list[BatchRow]:
-    """The rows of a sites CSV, or the site files of a folder (see the module notes)."""
+def read_batch_input(path: str | Path, terrain: TerrainSpec | None = None) -> list[BatchRow]:
+    """The rows of a sites CSV, or the site files of a folder (see the module
+    notes); with ``terrain`` (``batch --dem``), every site without a ``[terrain]``
+    of its own takes that one."""
     path = Path(path)
-    if path.is_dir():
-        return read_site_folder(path)
-    return read_sites_csv(path)
+    rows = read_site_folder(path) if path.is_dir() else read_sites_csv(path)
+    if terrain is not None:
+        for row in rows:
+            if row.site is not None and row.site.terrain is None:
+                row.site = replace(row.site, terrain=terrain)
+    return rows
 
 
 def read_site_folder(folder: Path) -> list[BatchRow]:
