@@ -88,12 +88,12 @@ def render_html(model: dict, figures: dict) -> str:
     if model["warnings"]:
         parts += ["<h2>Warnings</h2><ul>"] + [f"<li>{_e(w)}</li>" for w in model["warnings"]] + ["</ul>"]
     parts += ["<h2>Sky view</h2>",
-              _figure_html(figures["sky"], "Sky plot of the site", FIGURE_CAPTIONS["sky"]),
-              _figure_html(figures["panorama"], "Horizon panorama", FIGURE_CAPTIONS["panorama"])]
-    if "photo" in figures and model.get("photo"):
+              _figure_html(figures["sky"], "Sky plot of the site", FIGURE_CAPTIONS["sky"])]
+    if "photo" in figures and model.get("photo"):  # the customer's own sky, next to the sky plot
         parts += [f"<p>{_e(model['photo']['text'])}</p>",
                   _figure_html(figures["photo"], "The photo with its skyline and the sky tracks",
                                FIGURE_CAPTIONS["photo"])]
+    parts.append(_figure_html(figures["panorama"], "Horizon panorama", FIGURE_CAPTIONS["panorama"]))
     parts.append("<h2>Obstructions, costliest first</h2>")
     if model["sectors"]:
         parts.append(_grid_table(("Azimuths (true)", "Peak", "Labels", "Share of blocked", "Blocked if cleared"),

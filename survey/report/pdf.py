@@ -229,10 +229,10 @@ def render_pdf(model: dict, figures: dict, paper: str, captions: dict) -> bytes:
     pdf.add_page()
     pdf.heading("Sky view")
     pdf.figure(figures["sky"], min(112.0, pdf.epw), captions["sky"])
-    pdf.figure(figures["panorama"], pdf.epw, captions["panorama"])
-    if "photo" in figures and model.get("photo"):
+    if "photo" in figures and model.get("photo"):  # the customer's own sky, next to the sky plot
         pdf.para(model["photo"]["text"])
         pdf.figure(figures["photo"], pdf.epw, captions["photo"])
+    pdf.figure(figures["panorama"], pdf.epw, captions["panorama"])
 
     pdf.heading("Obstructions, costliest first")
     if model["sectors"]:
