@@ -17,7 +17,7 @@ import numpy as np
 
 from .errors import InputError, Problems
 from .fileio import read_text
-from .tables import is_number
+from .tables import csv_header, is_number
 
 
 @dataclass(frozen=True)
@@ -226,21 +226,8 @@ def read_horizon_csv(path: str | Path) -> tuple[HorizonPoint, ...]:
         raise InputError(f"{path}: empty: expected a header azimuth_deg,elevation_deg")
     if len(lines) - 1 > MAX_HORIZON_POINTS:
         raise InputError(f"{path}: {len(lines) - 1:,} rows, {too_many_points()}")
-    header_line, header = lines[0]
-    try:
-        cols = [c.strip() for c in next(csv.reader([header]))]
-    except csv.Error as exc:
-        raise InputError(f"{path}: line {header_line}: not a CSV header: {exc}") from None
-    known = {"azimuth_deg", "elevation_deg", "distance_m", "label"}
-    for c in cols:
-        if c not in known:
-            problems.add(f"line {header_line}", f"unknown column {c!r} (expected {', '.join(sorted(known))})")
-    for c in sorted({c for c in cols if cols.count(c) > 1}):
-        problems.add(f"line {header_line}", f"column {c!r} appears more than once")
-    for need in ("azimuth_deg", "elevation_deg"):
-        if need not in cols:
-            problems.add(f"line {header_line}", f"missing column {need!r}")
-    problems.raise_if_any()
+    cols = csv_header(str(path), *lines[0], ("azimuth_deg", "distance_m", "elevation_deg", "label"),
+                      ("azimuth_deg", "elevation_deg"))
     points = []
     for n, body in lines[1:]:
         if "\x00" in body:

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import math
 
-from .errors import Problems
+from .errors import InputError, Problems
 
 
 def is_number(x) -> bool:
@@ -72,3 +72,27 @@ class Table:
             self.problems.add(field, f"{v!r} is not one of: {', '.join(choices)}")
             return default
         return v
+
+
+def csv_header(where: str, line: int, header: str, known: tuple[str, ...], required: tuple[str, ...]) -> list[str]:
+    """The columns a CSV header line names (a leading byte-order mark dropped),
+    checked: every column known, none twice, the required ones there; else one
+    InputError line per problem, naming ``where`` and the line.  The horizon CSV
+    and the batch's sites CSV share this rule."""
+    import csv
+
+    try:
+        cols = [c.strip().lstrip("\ufeff") for c in next(csv.reader([header]))]
+    except csv.Error as exc:
+        raise InputError(f"{where}: line {line}: not a CSV header: {exc}") from None
+    problems = Problems(where)
+    for c in cols:
+        if c not in known:
+            problems.add(f"line {line}", f"unknown column {c[:40]!r} (expected {', '.join(known)})")
+    for c in sorted({c for c in cols if cols.count(c) > 1}):
+        problems.add(f"line {line}", f"column {c[:40]!r} appears more than once")
+    for need in required:
+        if need not in cols:
+            problems.add(f"line {line}", f"missing column {need!r}")
+    problems.raise_if_any()
+    return cols

@@ -19,9 +19,10 @@ import io
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
-from ..errors import InputError, Problems
+from ..errors import InputError
 from ..fileio import read_text
 from ..site import Site, load_site, site_from_dict
+from ..tables import csv_header
 from ..terrain.spec import TerrainSpec
 
 REQUIRED = ("id", "latitude", "longitude")
@@ -97,21 +98,7 @@ def read_sites_csv(path: Path) -> list[BatchRow]:
         raise InputError(f"{where}: empty: expected a header {','.join(COLUMNS)}")
     if len(numbered) - 1 > MAX_SITES:
         raise InputError(f"{where}: {len(numbered) - 1:,} rows, more than the limit of {MAX_SITES:,} sites in one batch")
-    header_line, header = numbered[0]
-    try:
-        cols = [c.strip().lstrip("\ufeff") for c in next(csv.reader([header]))]
-    except csv.Error as exc:
-        raise InputError(f"{where}: line {header_line}: not a CSV header: {exc}") from None
-    problems = Problems(where)
-    for c in cols:
-        if c not in COLUMNS:
-            problems.add(f"line {header_line}", f"unknown column {c[:40]!r} (expected {', '.join(COLUMNS)})")
-    for c in sorted({c for c in cols if cols.count(c) > 1}):
-        problems.add(f"line {header_line}", f"column {c[:40]!r} appears more than once")
-    for need in REQUIRED:
-        if need not in cols:
-            problems.add(f"line {header_line}", f"missing column {need!r}")
-    problems.raise_if_any()
+    cols = csv_header(where, *numbered[0], COLUMNS, REQUIRED)
     rows, seen = [], {}
     for index, (n, body) in enumerate(numbered[1:]):
         row = _read_row(where, n, body, cols, index)
