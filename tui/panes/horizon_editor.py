@@ -18,8 +18,9 @@ from textual.containers import Horizontal, Vertical
 from textual.message import Message
 from textual.widgets import DataTable, Input, Label, Static
 
-from survey.api import HorizonPoint, HorizonProfile, Problems, combined_mask, measured_mask, parse_point
+from survey.api import HorizonPoint, HorizonProfile, Problems, combined_mask, measured_mask, parse_point, photo_points
 
+from ..screens.dialogs import AskChoice
 from ..widgets.phrases import Phrases
 from ..widgets.profile import HorizonProfile as ProfilePreview
 
@@ -103,6 +104,7 @@ class HorizonEditor(Vertical):
         Binding("ctrl+z", "undo", "Undo"),
         Binding("i", "import_csv", "Import CSV"),
         Binding("m", "toggle_reference", "Compass/true"),
+        Binding("p", "photo_to_points", "Photo to points"),
         Binding("escape", "leave_entry", "Back", show=False),
     ]
 
@@ -119,8 +121,9 @@ class HorizonEditor(Vertical):
         self.declination_note = ""
         self.min_elevation_deg = 25.0
         self.editing: int | None = None  # row being changed through the entry
-        self._undo: list[HorizonProfile] = []
+        self._undo: list[tuple] = []  # (profile, photo spec, photo skyline) before each edit
         self.photo: tuple | None = None  # (true az, el) of the site's photo skyline, under the points
+        self.photo_spec = None  # the site's [horizon] photo (None once turned into points)
 
     def compose(self) -> ComposeResult:
         with Horizontal(id="horizon-body"):
@@ -139,8 +142,11 @@ class HorizonEditor(Vertical):
         self._refresh_all()
 
     # ------------------------------------------------------------- data in/out
-    def load(self, profile: HorizonProfile, declination_deg: float | None, note: str = "") -> None:
+    def load(self, profile: HorizonProfile, declination_deg: float | None, note: str = "", photo_spec=None) -> None:
         self.profile = profile
+        self.photo_spec = photo_spec
+        if photo_spec is None:
+            self.photo = None
         self.declination_deg, self.declination_note = declination_deg, note
         self._undo.clear()
         self.editing = None
@@ -171,10 +177,12 @@ class HorizonEditor(Vertical):
             return self.profile.points
         return self.profile.to_true(self.declination_deg).points
 
-    def _set(self, profile: HorizonProfile, cursor: int | None = None) -> None:
-        self._undo.append(self.profile)
+    def _set(self, profile: HorizonProfile, cursor: int | None = None, detach: bool = False) -> None:
+        self._undo.append((self.profile, self.photo_spec, self.photo))
         del self._undo[:-50]
         self.profile = profile
+        if detach:  # the photo's skyline is now in the points (action_photo_to_points)
+            self.photo_spec = self.photo = None
         self._refresh_all(cursor=cursor)
         self.post_message(self.Changed(profile))
 
@@ -340,7 +348,7 @@ class HorizonEditor(Vertical):
         if not self._undo:
             self._say("nothing to undo")
             return
-        self.profile = self._undo.pop()
+        self.profile, self.photo_spec, self.photo = self._undo.pop()
         self._refresh_all(keep_cursor=True)
         self.post_message(self.Changed(self.profile))
         self._say(f"undone; {len(self._undo)} more step{'s' * (len(self._undo) != 1)} can be undone")
@@ -357,6 +365,31 @@ class HorizonEditor(Vertical):
             "true bearings: no declination"
         self._say(f"the points now read as {what}; ctrl+z to undo")
         self.app.notify(f"Bearings now read as {what}", timeout=4)
+
+    def action_photo_to_points(self) -> None:
+        """The photo skyline as measured points, thinned to its shape (the
+        engine's ``photo_points``), after a confirm; the photo is then detached
+        from the site, so the mask is those points (README, "Horizon from a photo")."""
+        if self.photo is None or self.photo_spec is None:
+            self._say("this site has no photo skyline to turn into points")
+            return
+        points, dropped = photo_points(self.profile, *self.photo, self.declination_deg)
+        under = (f"  {dropped} measured point{'s' * (dropped != 1)} under the skyline no longer shape"
+                 f"{'s' * (dropped == 1)} the mask and {'are' if dropped != 1 else 'is'} left out.") if dropped else ""
+
+        def answered(answer) -> None:
+            if answer != "convert":
+                return
+            self._set(replace(self.profile, points=points), cursor=0, detach=True)
+            self._say(f"{len(points)} points from the photo skyline; the photo is detached; ctrl+z to undo")
+
+        self.app.push_screen(AskChoice(
+            f"Turn the photo skyline into {len(points)} measured points?",
+            [("convert", "Turn into points"), ("cancel", "Cancel")],
+            f"The skyline of {self.photo_spec.file.name} is thinned to its shape (within 0.5°), each point "
+            f"labelled 'photo', in {'compass' if self.profile.reference == 'magnetic' else 'true'} bearings.  "
+            f"The photo is then detached from the site: the mask is these points, and lowering one lowers the "
+            f"mask.{under}  ctrl+z undoes it."), answered)
 
     def action_import_csv(self) -> None:
         self.app.action_import_horizon()
