@@ -20,6 +20,7 @@ from survey.photo.points import photo_points  # noqa: E402
 from survey.site import load_site  # noqa: E402
 from survey.window import window_start  # noqa: E402
 from tui.panes.horizon_editor import HorizonEditor  # noqa: E402
+from tui.widgets.skychart import SkyChart  # noqa: E402
 
 from .test_tui import app_for, demo_copy, drive, until  # noqa: E402
 
@@ -111,3 +112,95 @@ def test_photo_to_points_in_the_app_saves_and_undoes(tmp_path):
     assert np.abs(got - want).max() <= 0.5
     assert restored == before.photo
     assert load_site(site_file).photo == before.photo
+
+
+# ----------------------------------------------------------------- body frame (issue 15)
+
+def test_profile_names_the_body_frame_under_its_azimuths():
+    """72 plot columns: 5° a column, so 90° is column 4 + 18 (hand arithmetic);
+    the vessel's words sit under 0, 90, 180, 270 and 360, no compass letter."""
+    from tui.widgets.frames import VESSEL
+    from tui.widgets.profile import GUTTER, horizon_profile
+
+    rows = horizon_profile([0, 90, 180], [10, 20, 10], GUTTER + 72, 12, names=VESSEL, colour=False).plain.split("\n")
+    labels = rows[12 - 2]  # the legend is the last row, the labels above it
+    assert labels[GUTTER:GUTTER + 3] == "bow" and labels.rstrip().endswith("bow")
+    assert labels[GUTTER + 18 - 1:GUTTER + 18 + 3] == "stbd"  # centred: 4 letters from one left of the tick
+    assert labels[GUTTER + 36 - 2:GUTTER + 36 + 3] == "stern"
+    assert labels[GUTTER + 54 - 1:GUTTER + 54 + 3] == "port"
+    assert not {"N", "E", "S", "W"} & set(labels.split())
+    plain = horizon_profile([0, 90, 180], [10, 20, 10], GUTTER + 72, 12, colour=False).plain.split("\n")[10]
+    assert plain[GUTTER] == "N" and plain[GUTTER + 18] == "E"  # a fixed site keeps N E S W
+
+
+def test_sky_chart_names_the_body_frame_round_its_rim():
+    from tui.widgets.frames import VEHICLE
+    from tui.widgets.skychart import sky_chart_from, sky_layout
+
+    w, h = 40, 21
+    lay = sky_layout(w, h)
+    rows = sky_chart_from([], [], None, [], [], 25.0, w, h, colour=False, names=VEHICLE).plain.split("\n")
+    rc, cc, n = lay.rc, lay.cc, lay.n
+    assert rows[rc - n - 1][cc - 2:cc + 3] == "front" and rows[rc + n + 1][cc - 1:cc + 3] == "rear"
+    right = rows[rc][cc + 2 * n + 1:]
+    left = rows[rc][:cc - 2 * n]
+    down = "".join(r[cc + 2 * n + 1] for r in rows[rc - 2:rc + 3])
+    assert right.startswith("right") or down == "right"
+    assert left.endswith("left") or "".join(r[cc - 2 * n - 1] for r in rows[rc - 1:rc + 3]) == "left"
+    assert "N" not in rows[rc - n - 1]
+
+
+@pytest.mark.parametrize("name, front, side", [("tern-sloop", "bow", "stbd"), ("wren-camper", "front", "right")])
+def test_the_app_names_the_body_frame_on_every_tab(tmp_path, name, front, side):
+    site_file = demo_copy(tmp_path, name)
+    app = app_for(site_file, tmp_path)
+
+    async def go():
+        async with app.run_test(size=(120, 50)) as pilot:
+            ws = app.workspace
+            await until(pilot, lambda: ws.query_one("#findings-body").display, 60, "findings")
+            await pilot.press("f3")
+            await pilot.pause(0.3)
+            editor = ws.query_one(HorizonEditor)
+            profile = editor.query_one("#profile")
+            preview = profile._draw(profile.size.width, profile.size.height, False).plain
+            phrases = " ".join(str(p) for p in editor.query_one("#reference").phrases)
+            columns = [str(c.label) for c in editor.query_one("#points").columns.values()]
+            await pilot.press("f4")
+            await pilot.pause(0.3)
+            sky = ws.query_one(SkyChart)
+            chart = sky._draw(sky.size.width, sky.size.height, False).plain
+            caption = str(ws.query_one("#sky-caption").render())
+            label = str(ws.query_one("#f-terminal-tilt_azimuth_deg").parent.query_one(".field-label").render())
+            return preview, phrases, columns, chart, caption, label
+
+    preview, phrases, columns, chart, caption, label = drive(go())
+    assert f"bearings from the {front}" in phrases
+    assert f"{front.capitalize()}°" in columns and "True°" not in columns
+    assert side in preview.split("\n")[-2] and " N " not in preview.split("\n")[-2]
+    rows = chart.split("\n")
+    down = ["".join(r[c] if c < len(r) else " " for r in rows) for c in range(max(map(len, rows)))]
+    assert front in chart and (side in chart or any(side in col for col in down))
+    assert f"bearings from the {front}" in caption and "North up" not in caption
+    assert label == f"Tilted toward, ° from {front}"
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(0, 2**32 - 1), st.integers(1, 40), st.floats(-30.0, 30.0), st.sampled_from(["true", "magnetic"]))
+def test_any_skyline_is_kept_within_half_a_degree(seed, smooth, dec, ref):
+    """For every skyline (random, from white noise 0..90° to smooth hills:
+    a moving average of ``smooth`` samples, through north) and declination,
+    the points' mask is within 0.5° of it at every 0.1°, and every bearing is
+    in 0..360."""
+    az = np.arange(0.0, 360.0, 0.5)
+    noise = np.random.default_rng(seed).uniform(0.0, 90.0, az.size)
+    el = np.convolve(np.r_[noise, noise[:smooth - 1]], np.ones(smooth) / smooth, mode="valid")
+    points, _ = photo_points(HorizonProfile((), ref), az, el, dec)
+    shift = dec if ref == "magnetic" else 0.0
+    fine = np.arange(0.0, 360.0, 0.1)
+    assert np.abs(hand_mask(points, shift)(fine) - np.interp(fine, az, el, period=360.0)).max() <= 0.5
+    assert all(0.0 <= p.azimuth_deg < 360.0 for p in points)

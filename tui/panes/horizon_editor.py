@@ -21,6 +21,7 @@ from textual.widgets import DataTable, Input, Label, Static
 from survey.api import HorizonPoint, HorizonProfile, Problems, combined_mask, measured_mask, parse_point, photo_points
 
 from ..screens.dialogs import AskChoice
+from ..widgets.frames import axis_names, front_word, in_body_frame
 from ..widgets.phrases import Phrases
 from ..widgets.profile import HorizonProfile as ProfilePreview
 
@@ -78,13 +79,15 @@ def entry_text(p: HorizonPoint) -> str:
     return " ".join(parts)
 
 
-def reference_phrases(magnetic: bool, declination_deg: float | None, note: str = "", body: bool = False) -> tuple:
+def reference_phrases(magnetic: bool, declination_deg: float | None, note: str = "", body: bool = False,
+                      front: str = "") -> tuple:
     """The line over the table: which north the bearings use, the declination
     and the key that switches; each phrase fits the table's narrowest width.
-    ``body``: a vehicle's or vessel's body-frame bearings (README, "Moving installs")."""
+    ``body``: a vehicle's or vessel's body-frame bearings (README, "Moving installs"),
+    taken from its ``front`` ("bow" or "front"; blank: either)."""
     if body:
-        phrases = ("Body frame: bearings from the bow or front,", "clockwise;", "elevations above the deck.",
-                   "No declination added")
+        phrases = (f"Body frame: bearings from the {front or 'bow or front'},", "clockwise;",
+                   "elevations above the deck.", "No declination added")
     elif magnetic:
         dec = ("Declination: needs valid coordinates" if declination_deg is None else
                f"Declination {declination_deg:+.2f}° (WMM2025) added")
@@ -117,7 +120,8 @@ class HorizonEditor(Vertical):
         super().__init__(**kw)
         self.profile = HorizonProfile()
         self.declination_deg: float | None = None
-        self.body_frame = False  # a vehicle's or vessel's horizon, bearings from the bow (workspace.load sets it)
+        self.body_frame = False  # a vehicle's or vessel's horizon, bearings from the bow (set_frame sets it)
+        self.front = ""  # "bow" or "front" in a body frame
         self.declination_note = ""
         self.min_elevation_deg = 25.0
         self.editing: int | None = None  # row being changed through the entry
@@ -151,6 +155,19 @@ class HorizonEditor(Vertical):
         self._undo.clear()
         self.editing = None
         self._refresh_all()
+
+    def set_frame(self, site) -> None:
+        """Whether ``site``'s bearings are in a vehicle's or vessel's body frame:
+        the reference line, the table's bearing column and the preview's
+        direction names follow (``widgets.frames``)."""
+        body = in_body_frame(site) and site.platform.frame == "body"
+        front = front_word(site) if body else ""
+        if (body, front) == (self.body_frame, self.front):
+            return
+        self.body_frame, self.front = body, front
+        self.query_one("#profile", ProfilePreview).names = axis_names(site, body)
+        if self.is_mounted:
+            self._refresh_all(keep_cursor=True)
 
     def set_declination(self, declination_deg: float | None, note: str = "") -> None:
         if (declination_deg, note) == (self.declination_deg, self.declination_note):
@@ -192,12 +209,13 @@ class HorizonEditor(Vertical):
         old = table.cursor_row
         magnetic = self.profile.reference == "magnetic"
         table.clear(columns=True)
-        cols = ["#", "Cmp°" if magnetic else "Az°"] + (["True°"] if magnetic else [])
+        bearing = f"{self.front.capitalize()}°" if self.body_frame else ("Cmp°" if magnetic else "Az°")
+        cols = ["#", bearing] + (["True°"] if magnetic and not self.body_frame else [])
         table.add_columns(*cols, "El°", "Dist m", "Label")
         trues = self.true_points()
         for i, (p, t) in enumerate(zip(self.profile.points, trues)):
             row = [str(i + 1), f"{p.azimuth_deg:g}"]
-            if magnetic:
+            if magnetic and not self.body_frame:
                 row.append("?" if self.declination_deg is None else f"{t.azimuth_deg:.1f}")
             row += [f"{p.elevation_deg:g}", "" if p.distance_m is None else f"{p.distance_m:g}", Text(p.label)]
             table.add_row(*row)
@@ -206,7 +224,7 @@ class HorizonEditor(Vertical):
             row = cursor if cursor is not None else (old if keep_cursor else min(old, n - 1))
             table.move_cursor(row=max(0, min(row, n - 1)))
         self.query_one("#reference", Phrases).show(*reference_phrases(
-            magnetic, self.declination_deg, self.declination_note, body=self.body_frame))
+            magnetic, self.declination_deg, self.declination_note, body=self.body_frame, front=self.front))
         self.query_one("#entry-label", Label).update(
             "Add " if self.editing is None else f"#{self.editing + 1} ")
         self._refresh_preview()
@@ -356,7 +374,8 @@ class HorizonEditor(Vertical):
     def action_toggle_reference(self) -> None:
         """Say which north the typed bearings refer to (the numbers stay as typed)."""
         if self.body_frame:  # body-frame bearings come from the bow, not from a north
-            self.app.notify("Body-frame bearings are taken from the bow or front: no compass or true north",
+            self.app.notify(f"Body-frame bearings are taken from the {self.front or 'bow or front'}: no compass or "
+                            "true north",
                             timeout=4)
             return
         ref = "true" if self.profile.reference == "magnetic" else "magnetic"

@@ -11,7 +11,8 @@ from textual.containers import Horizontal, VerticalScroll
 from textual.message import Message
 from textual.widgets import Input, Label, Select, Static
 
-from ..fields import CHOICES, FIELDS, field_values, parse_field
+from ..fields import BY_KEY, CHOICES, FIELDS, field_values, parse_field
+from ..widgets.frames import front_word, in_body_frame
 
 _SECTIONS = {"site.name": "Where", "mount.kind": "Mount and terminal", "platform.heading_deg": "Vehicle or vessel",
              "survey.surveyor": "Survey"}
@@ -64,7 +65,22 @@ class SiteForm(VerticalScroll):
             else:
                 widget.value = text
         self._loading = False
+        self._relabel(site)
         self._check_all(post=False)
+
+    def _relabel(self, site) -> None:
+        """On a vehicle or vessel the cone is fixed to the deck: its tilt is from
+        the deck's normal, toward a bearing from the bow or front (README,
+        "Moving installs"); the labels say so."""
+        front = front_word(site) if in_body_frame(site) else None
+        for key, fixed, moving in (
+                ("terminal.tilt_azimuth_deg", BY_KEY["terminal.tilt_azimuth_deg"].label,
+                 f"Tilted toward, ° from {front}"),
+                ("terminal.tilt_deg", BY_KEY["terminal.tilt_deg"].label, "Tilt from deck normal, °")):
+            widget = self.query_one("#" + _dom_id(key), Input)
+            widget.parent.query_one(".field-label", Label).update(fixed if front is None else moving)
+            widget.placeholder = BY_KEY[key].placeholder if front is None else (
+                f"clockwise from the {front}" if key.endswith("azimuth_deg") else "0 = square to the deck")
 
     def _context_note(self, key: str, value) -> str:
         """What a valid value means here, where that is not obvious."""

@@ -134,7 +134,7 @@ class Workspace(Screen):
                 form.prefill(key, text)
         self.show_refused()
         if site is not None:
-            editor.body_frame = site.platform is not None and site.platform.frame == "body"
+            editor.set_frame(site)
             editor.load(site.horizon, *declination, photo_spec=site.photo)
             editor.set_min_elevation(site.terminal.min_elevation_deg)
         else:
@@ -160,7 +160,7 @@ class Workspace(Screen):
             self.set_status(state=f"stale: fix {form.first_problem_label()}", saved="unsaved")
             return None
         site = apply_fields(form.values, base, path)  # as the fields read now (a chosen spot reloads them)
-        self._editor.body_frame = site.platform is not None and site.platform.frame == "body"
+        self._editor.set_frame(site)
         return replace(site, horizon=self._editor.profile, photo=self._editor.photo_spec)
 
     def refused_fields(self) -> list[tuple[str, str]]:
