@@ -389,8 +389,11 @@ class HorizonEditor(Vertical):
         """The photo skyline as measured points, thinned to its shape (the
         engine's ``photo_points``), after a confirm; the photo is then detached
         from the site, so the mask is those points (README, "Horizon from a photo")."""
-        if self.photo is None or self.photo_spec is None:
-            self._say("this site has no photo skyline to turn into points")
+        if self.photo_spec is None:
+            self._say("this site has no horizon photo to turn into points")
+            return
+        if self.photo is None:
+            self._say("the photo's skyline comes with the assessment: try again when it is done")
             return
         points, dropped = photo_points(self.profile, *self.photo, self.declination_deg)
         under = (f"  {dropped} measured point{'s' * (dropped != 1)} under the skyline no longer shape"

@@ -6,7 +6,7 @@ from textual.app import ComposeResult
 from textual.containers import Vertical
 from textual.widgets import Static
 
-from ..widgets.frames import axis_names, front_word, in_body_frame
+from ..widgets.frames import front_word, in_body_frame
 from ..widgets.skychart import SkyChart
 
 
@@ -19,9 +19,8 @@ class SkyView(Vertical):
         self.query_one("#sky", SkyChart).show(run)
         w = run.window
         if in_body_frame(run.site):  # the engine gives a platform's tracks in its body frame
-            names = axis_names(run.site)
-            where = (f"Body frame (bearings from the {front_word(run.site)}, elevations above the deck): "
-                     f"{names[0]} up, {names[90]} right")
+            front = front_word(run.site)
+            where = f"Body frame (bearings from the {front}, elevations above the deck): {front} up"
         else:
             where = "North up, east right"
         self.query_one("#sky-caption", Static).update(

@@ -235,16 +235,24 @@ def horizon_profile(mask_az_deg, mask_el_deg, width: int, height: int, points=()
     lab_row = P + 1
     every = 30 if pc / 12.0 >= 4.0 else (90 if pc / 4.0 >= 2.0 else 180)
     ticks = list(range(0, 361, every))
-    for a in ticks:  # the named directions first: 0 at the left, 360 ending at the right edge
-        c = col_of(a) if a < 360 else width - 1
+    for a in ticks:
         if a not in (0, 360):
-            cv.put(ax, c, "\u252c", st("axis"))  # ┬
-        if a in names:
-            s = names[a]
-            c0 = c if a == 0 else (width - len(s) if a == 360 else c - (len(s) - 1) // 2)
-            c0 = max(GUTTER, min(c0, width - len(s)))
-            if a == 0 or all(x == " " for x in cv.chars[lab_row, max(0, c0 - 1):c0 + len(s) + 1].tolist()):
-                cv.put(lab_row, c0, s, st("label"))  # a word with no room for it is left out
+            cv.put(ax, col_of(a) if a < 360 else width - 1, "\u252c", st("axis"))  # ┬
+
+    def free(c0, n):
+        return c0 >= GUTTER and c0 + n <= width and all(
+            x == " " for x in cv.chars[lab_row, max(0, c0 - 1):c0 + n + 1].tolist())
+
+    # The named directions first: 0 from the left edge, 360 ending at the right
+    # edge, the others centred on their tick, else starting or ending there; a
+    # word with no room for it is left out (the numbers then fill in).
+    for a in sorted((a for a in ticks if a in names), key=lambda a: (a % 360 != 0, a != 0)):
+        s, c = names[a], col_of(a)
+        tries = [GUTTER] if a == 0 else ([width - len(s)] if a == 360 else
+                                         [c - (len(s) - 1) // 2, c, c - len(s) + 1])
+        c0 = next((t for t in tries if free(t, len(s))), None)
+        if c0 is not None:
+            cv.put(lab_row, c0, s, st("label"))
     for a in ticks:  # the numbers where they leave a space either side
         if a in names:
             continue
