@@ -84,6 +84,7 @@ def test_photo_to_points_in_the_app_saves_and_undoes(tmp_path):
             ws = app.workspace
             await until(pilot, lambda: ws.query_one(HorizonEditor).photo is not None, 60, "the photo skyline")
             editor = ws.query_one(HorizonEditor)
+            palette = [c.title for c in app.get_system_commands(ws)]
             await pilot.press("f3")
             await pilot.press("p")
             await pilot.pause(0.3)
@@ -92,14 +93,17 @@ def test_photo_to_points_in_the_app_saves_and_undoes(tmp_path):
             await pilot.press("ctrl+s")
             await pilot.pause(0.3)
             saved = load_site(site_file)
+            saved_text = site_file.read_text(encoding="utf-8")
             await pilot.press("ctrl+z")
             await pilot.pause(0.3)
             restored = editor.photo_spec
             await pilot.press("ctrl+s")
             await pilot.pause(0.3)
-            return saved, restored
+            return saved, saved_text, restored, palette
 
-    saved, restored = drive(go())
+    saved, saved_text, restored, palette = drive(go())
+    assert "[horizon.photo]" not in saved_text and "file = \"panorama.jpg\"" not in saved_text
+    assert "Photo skyline to points" in palette
     assert saved.photo is None
     assert saved.horizon.reference == "magnetic"
     assert sum(p.label == "photo" for p in saved.horizon.points) > 10
