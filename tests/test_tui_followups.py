@@ -208,3 +208,27 @@ def test_any_skyline_is_kept_within_half_a_degree(seed, smooth, dec, ref):
     fine = np.arange(0.0, 360.0, 0.1)
     assert np.abs(hand_mask(points, shift)(fine) - np.interp(fine, az, el, period=360.0)).max() <= 0.5
     assert all(0.0 <= p.azimuth_deg < 360.0 for p in points)
+
+
+def test_the_tilt_label_follows_the_mount_kind(tmp_path):
+    """A vessel's tilt is toward a bearing from the bow; set the mount kind
+    to vehicle on the form and it reads from the front."""
+    from textual.widgets import Select
+
+    site_file = demo_copy(tmp_path, "tern-sloop")
+    app = app_for(site_file, tmp_path)
+
+    def label():
+        ws = app.workspace
+        return str(ws.query_one("#f-terminal-tilt_azimuth_deg").parent.query_one(".field-label").render())
+
+    async def go():
+        async with app.run_test(size=(120, 50)) as pilot:
+            await until(pilot, lambda: app.workspace.query_one("#findings-body").display, 60, "findings")
+            first = label()
+            app.workspace.query_one("#f-mount-kind", Select).value = "vehicle"
+            await pilot.pause(0.3)
+            return first, label()
+
+    first, then = drive(go())
+    assert first == "Tilted toward, ° from bow" and then == "Tilted toward, ° from front"
