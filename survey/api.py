@@ -32,6 +32,7 @@ from .fileio import parse_toml, read_text
 from .geometry import cone_edge, nice_ceil, nice_floor, points_in_polygon
 from .horizon import HorizonMask, HorizonPoint, HorizonProfile, parse_point, read_horizon_csv
 from .mask import combined_mask, measured_mask, site_declination, site_mask, site_photo_skyline
+from .photo.points import photo_points
 from .pipeline import FleetChoice, SiteRun, TrackCache, run_site
 from .platform import SEA_STATES, platform_from_site, platform_table
 from .platform import route_down as route_down_time
@@ -46,7 +47,7 @@ from .window import WindowSpec, resolve_window, window_start
 from .words import NBSP, azimuth, azimuth_span, duration, elevation, length, length_number, pct, utc
 
 __all__ = [
-    "combined_mask", "site_photo_skyline",
+    "combined_mask", "site_photo_skyline", "photo_points",
     "list_assessments", "read_results", "recorded_site",
     "length_number", "only_terrain", "terrain_setup",
     "measured_mask",

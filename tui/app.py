@@ -542,6 +542,8 @@ class LeositeApp(App):
             yield SystemCommand("Re-assess", "Run the assessment again (ctrl+g)", self.action_reassess)
             yield SystemCommand("Import horizon CSV", "Read measured points from a CSV file",
                                 self.action_import_horizon)
+            yield SystemCommand("Photo skyline to points", "Turn the horizon photo into editable points (p)",
+                                self.workspace.query_one("#editor").action_photo_to_points)
             yield SystemCommand("Load satellites", "Use element sets (TLE/OMM) or a shell file",
                                 self.action_load_satellites)
             yield SystemCommand("Rank mounting spots", "Rank the plan's candidate spots",

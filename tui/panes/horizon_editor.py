@@ -18,8 +18,10 @@ from textual.containers import Horizontal, Vertical
 from textual.message import Message
 from textual.widgets import DataTable, Input, Label, Static
 
-from survey.api import HorizonPoint, HorizonProfile, Problems, combined_mask, measured_mask, parse_point
+from survey.api import HorizonPoint, HorizonProfile, Problems, combined_mask, measured_mask, parse_point, photo_points
 
+from ..screens.dialogs import AskChoice
+from ..widgets.frames import axis_names, front_word, in_body_frame
 from ..widgets.phrases import Phrases
 from ..widgets.profile import HorizonProfile as ProfilePreview
 
@@ -77,13 +79,15 @@ def entry_text(p: HorizonPoint) -> str:
     return " ".join(parts)
 
 
-def reference_phrases(magnetic: bool, declination_deg: float | None, note: str = "", body: bool = False) -> tuple:
+def reference_phrases(magnetic: bool, declination_deg: float | None, note: str = "", body: bool = False,
+                      front: str = "") -> tuple:
     """The line over the table: which north the bearings use, the declination
     and the key that switches; each phrase fits the table's narrowest width.
-    ``body``: a vehicle's or vessel's body-frame bearings (README, "Moving installs")."""
+    ``body``: a vehicle's or vessel's body-frame bearings (README, "Moving installs"),
+    taken from its ``front`` ("bow" or "front"; blank: either)."""
     if body:
-        phrases = ("Body frame: bearings from the bow or front,", "clockwise;", "elevations above the deck.",
-                   "No declination added")
+        phrases = (f"Body frame: bearings from the {front or 'bow or front'},", "clockwise;",
+                   "elevations above the deck.", "No declination added")
     elif magnetic:
         dec = ("Declination: needs valid coordinates" if declination_deg is None else
                f"Declination {declination_deg:+.2f}° (WMM2025) added")
@@ -103,6 +107,7 @@ class HorizonEditor(Vertical):
         Binding("ctrl+z", "undo", "Undo"),
         Binding("i", "import_csv", "Import CSV"),
         Binding("m", "toggle_reference", "Compass/true"),
+        Binding("p", "photo_to_points", "Photo to points"),
         Binding("escape", "leave_entry", "Back", show=False),
     ]
 
@@ -115,12 +120,14 @@ class HorizonEditor(Vertical):
         super().__init__(**kw)
         self.profile = HorizonProfile()
         self.declination_deg: float | None = None
-        self.body_frame = False  # a vehicle's or vessel's horizon, bearings from the bow (workspace.load sets it)
+        self.body_frame = False  # a vehicle's or vessel's horizon, bearings from the bow (set_frame sets it)
+        self.front = ""  # "bow" or "front" in a body frame
         self.declination_note = ""
         self.min_elevation_deg = 25.0
         self.editing: int | None = None  # row being changed through the entry
-        self._undo: list[HorizonProfile] = []
+        self._undo: list[tuple] = []  # (profile, photo spec, photo skyline) before each edit
         self.photo: tuple | None = None  # (true az, el) of the site's photo skyline, under the points
+        self.photo_spec = None  # the site's [horizon] photo (None once turned into points)
 
     def compose(self) -> ComposeResult:
         with Horizontal(id="horizon-body"):
@@ -139,12 +146,28 @@ class HorizonEditor(Vertical):
         self._refresh_all()
 
     # ------------------------------------------------------------- data in/out
-    def load(self, profile: HorizonProfile, declination_deg: float | None, note: str = "") -> None:
+    def load(self, profile: HorizonProfile, declination_deg: float | None, note: str = "", photo_spec=None) -> None:
         self.profile = profile
+        self.photo_spec = photo_spec
+        if photo_spec is None:
+            self.photo = None
         self.declination_deg, self.declination_note = declination_deg, note
         self._undo.clear()
         self.editing = None
         self._refresh_all()
+
+    def set_frame(self, site) -> None:
+        """Whether ``site``'s bearings are in a vehicle's or vessel's body frame:
+        the reference line, the table's bearing column and the preview's
+        direction names follow (``widgets.frames``)."""
+        body = in_body_frame(site) and site.platform.frame == "body"
+        front = front_word(site) if body else ""
+        if (body, front) == (self.body_frame, self.front):
+            return
+        self.body_frame, self.front = body, front
+        self.query_one("#profile", ProfilePreview).names = axis_names(site, body)
+        if self.is_mounted:
+            self._refresh_all(keep_cursor=True)
 
     def set_declination(self, declination_deg: float | None, note: str = "") -> None:
         if (declination_deg, note) == (self.declination_deg, self.declination_note):
@@ -171,10 +194,12 @@ class HorizonEditor(Vertical):
             return self.profile.points
         return self.profile.to_true(self.declination_deg).points
 
-    def _set(self, profile: HorizonProfile, cursor: int | None = None) -> None:
-        self._undo.append(self.profile)
+    def _set(self, profile: HorizonProfile, cursor: int | None = None, detach: bool = False) -> None:
+        self._undo.append((self.profile, self.photo_spec, self.photo))
         del self._undo[:-50]
         self.profile = profile
+        if detach:  # the photo's skyline is now in the points (action_photo_to_points)
+            self.photo_spec = self.photo = None
         self._refresh_all(cursor=cursor)
         self.post_message(self.Changed(profile))
 
@@ -184,12 +209,13 @@ class HorizonEditor(Vertical):
         old = table.cursor_row
         magnetic = self.profile.reference == "magnetic"
         table.clear(columns=True)
-        cols = ["#", "Cmp°" if magnetic else "Az°"] + (["True°"] if magnetic else [])
+        bearing = f"{self.front.capitalize()}°" if self.body_frame else ("Cmp°" if magnetic else "Az°")
+        cols = ["#", bearing] + (["True°"] if magnetic and not self.body_frame else [])
         table.add_columns(*cols, "El°", "Dist m", "Label")
         trues = self.true_points()
         for i, (p, t) in enumerate(zip(self.profile.points, trues)):
             row = [str(i + 1), f"{p.azimuth_deg:g}"]
-            if magnetic:
+            if magnetic and not self.body_frame:
                 row.append("?" if self.declination_deg is None else f"{t.azimuth_deg:.1f}")
             row += [f"{p.elevation_deg:g}", "" if p.distance_m is None else f"{p.distance_m:g}", Text(p.label)]
             table.add_row(*row)
@@ -198,7 +224,7 @@ class HorizonEditor(Vertical):
             row = cursor if cursor is not None else (old if keep_cursor else min(old, n - 1))
             table.move_cursor(row=max(0, min(row, n - 1)))
         self.query_one("#reference", Phrases).show(*reference_phrases(
-            magnetic, self.declination_deg, self.declination_note, body=self.body_frame))
+            magnetic, self.declination_deg, self.declination_note, body=self.body_frame, front=self.front))
         self.query_one("#entry-label", Label).update(
             "Add " if self.editing is None else f"#{self.editing + 1} ")
         self._refresh_preview()
@@ -340,7 +366,7 @@ class HorizonEditor(Vertical):
         if not self._undo:
             self._say("nothing to undo")
             return
-        self.profile = self._undo.pop()
+        self.profile, self.photo_spec, self.photo = self._undo.pop()
         self._refresh_all(keep_cursor=True)
         self.post_message(self.Changed(self.profile))
         self._say(f"undone; {len(self._undo)} more step{'s' * (len(self._undo) != 1)} can be undone")
@@ -348,7 +374,8 @@ class HorizonEditor(Vertical):
     def action_toggle_reference(self) -> None:
         """Say which north the typed bearings refer to (the numbers stay as typed)."""
         if self.body_frame:  # body-frame bearings come from the bow, not from a north
-            self.app.notify("Body-frame bearings are taken from the bow or front: no compass or true north",
+            self.app.notify(f"Body-frame bearings are taken from the {self.front or 'bow or front'}: no compass or "
+                            "true north",
                             timeout=4)
             return
         ref = "true" if self.profile.reference == "magnetic" else "magnetic"
@@ -357,6 +384,34 @@ class HorizonEditor(Vertical):
             "true bearings: no declination"
         self._say(f"the points now read as {what}; ctrl+z to undo")
         self.app.notify(f"Bearings now read as {what}", timeout=4)
+
+    def action_photo_to_points(self) -> None:
+        """The photo skyline as measured points, thinned to its shape (the
+        engine's ``photo_points``), after a confirm; the photo is then detached
+        from the site, so the mask is those points (README, "Horizon from a photo")."""
+        if self.photo_spec is None:
+            self._say("this site has no horizon photo to turn into points")
+            return
+        if self.photo is None:
+            self._say("the photo's skyline comes with the assessment: try again when it is done")
+            return
+        points, dropped = photo_points(self.profile, *self.photo, self.declination_deg)
+        under = (f"  {dropped} measured point{'s' * (dropped != 1)} under the skyline no longer shape"
+                 f"{'s' * (dropped == 1)} the mask and {'are' if dropped != 1 else 'is'} left out.") if dropped else ""
+
+        def answered(answer) -> None:
+            if answer != "convert":
+                return
+            self._set(replace(self.profile, points=points), cursor=0, detach=True)
+            self._say(f"{len(points)} points from the photo skyline; the photo is detached; ctrl+z to undo")
+
+        self.app.push_screen(AskChoice(
+            f"Turn the photo skyline into {len(points)} measured points?",
+            [("convert", "Turn into points"), ("cancel", "Cancel")],
+            f"The skyline of {self.photo_spec.file.name} is thinned to its shape (within 0.5°), each point "
+            f"labelled 'photo', in {'compass' if self.profile.reference == 'magnetic' else 'true'} bearings.  "
+            f"The photo is then detached from the site: the mask is these points, and lowering one lowers the "
+            f"mask.{under}  ctrl+z undoes it."), answered)
 
     def action_import_csv(self) -> None:
         self.app.action_import_horizon()

@@ -11,7 +11,8 @@ from textual.containers import Horizontal, VerticalScroll
 from textual.message import Message
 from textual.widgets import Input, Label, Select, Static
 
-from ..fields import CHOICES, FIELDS, field_values, parse_field
+from ..fields import BY_KEY, CHOICES, FIELDS, field_values, parse_field
+from ..widgets.frames import in_body_frame
 
 _SECTIONS = {"site.name": "Where", "mount.kind": "Mount and terminal", "platform.heading_deg": "Vehicle or vessel",
              "survey.surveyor": "Survey"}
@@ -65,6 +66,24 @@ class SiteForm(VerticalScroll):
                 widget.value = text
         self._loading = False
         self._check_all(post=False)
+        self._relabel(site)  # after the check: it reads the mount kind as the form has it
+
+    def _relabel(self, site) -> None:
+        """On a vehicle or vessel the cone is fixed to the deck: its tilt is from
+        the deck's normal, toward a bearing from the bow or front (README,
+        "Moving installs"); the labels say so."""
+        kind = self.values.get("mount.kind") or (site.mount.kind if site is not None else "")
+        front = None
+        if in_body_frame(site) and kind in ("vehicle", "marine"):  # as the mount kind reads now
+            front = "bow" if kind == "marine" else "front"
+        for key, fixed, moving in (
+                ("terminal.tilt_azimuth_deg", BY_KEY["terminal.tilt_azimuth_deg"].label,
+                 f"Tilted toward, ° from {front}"),
+                ("terminal.tilt_deg", BY_KEY["terminal.tilt_deg"].label, "Tilt from deck normal, °")):
+            widget = self.query_one("#" + _dom_id(key), Input)
+            widget.parent.query_one(".field-label", Label).update(fixed if front is None else moving)
+            widget.placeholder = BY_KEY[key].placeholder if front is None else (
+                f"clockwise from the {front}" if key.endswith("azimuth_deg") else "0 = square to the deck")
 
     def _context_note(self, key: str, value) -> str:
         """What a valid value means here, where that is not obvious."""
@@ -134,6 +153,8 @@ class SiteForm(VerticalScroll):
         if self._loading:
             return
         self._check(event.select.id.removeprefix("f-").replace("-", ".", 1))
+        if event.select.id == _dom_id("mount.kind"):
+            self._relabel(self.site)
         self._post()
 
     def refused(self) -> list[tuple[str, str]]:

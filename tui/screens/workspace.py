@@ -134,8 +134,8 @@ class Workspace(Screen):
                 form.prefill(key, text)
         self.show_refused()
         if site is not None:
-            editor.body_frame = site.platform is not None and site.platform.frame == "body"
-            editor.load(site.horizon, *declination)
+            editor.set_frame(site)
+            editor.load(site.horizon, *declination, photo_spec=site.photo)
             editor.set_min_elevation(site.terminal.min_elevation_deg)
         else:
             editor.load(editor.profile, None)
@@ -160,8 +160,8 @@ class Workspace(Screen):
             self.set_status(state=f"stale: fix {form.first_problem_label()}", saved="unsaved")
             return None
         site = apply_fields(form.values, base, path)  # as the fields read now (a chosen spot reloads them)
-        self._editor.body_frame = site.platform is not None and site.platform.frame == "body"
-        return replace(site, horizon=self._editor.profile)
+        self._editor.set_frame(site)
+        return replace(site, horizon=self._editor.profile, photo=self._editor.photo_spec)
 
     def refused_fields(self) -> list[tuple[str, str]]:
         """Each refused field of the Site tab as (label, reason)."""

@@ -1,7 +1,9 @@
 """The horizon profile: survey/render.py's horizon panorama in character cells.
 
 Azimuth 0..360 deg clockwise from true north along x (N E S W labelled, and
-every 30 deg when there is room), elevation up y from 0 to a ceiling (90 deg,
+every 30 deg when there is room; in a vehicle's or vessel's body frame, clockwise
+from the bow or front, labelled with its sides: bow stbd stern port, or front
+right rear left, see ``frames.py``), elevation up y from 0 to a ceiling (90 deg,
 or the smallest of 10, 15, 20, 30, 45, 60, 90 that leaves a tenth of head room
 over the data), both linear.  The obstruction is filled with eighth blocks
 (``▁▂▃▄▅▆▇█``), so each column's height is exact to 1/8 of a row; measured
@@ -27,6 +29,7 @@ import numpy as np
 from rich.text import Text
 
 from .drawing import GREY, Canvas, DrawingWidget, too_small
+from .frames import COMPASS
 
 __all__ = ["horizon_profile", "HorizonProfile", "MIN_WIDTH", "MIN_HEIGHT", "GUTTER"]
 
@@ -108,7 +111,7 @@ def _fmt_deg(v: float) -> str:
 
 def horizon_profile(mask_az_deg, mask_el_deg, width: int, height: int, points=(),
                     colour: bool = True, cursor_az=None, min_elevation_deg=None,
-                    top_deg=None, photo_az_deg=None, photo_el_deg=None) -> Text:
+                    top_deg=None, photo_az_deg=None, photo_el_deg=None, names=None) -> Text:
     """The horizon profile as ``width`` x ``height`` character cells.
 
     Parameters (degrees, true azimuths):
@@ -227,20 +230,36 @@ def horizon_profile(mask_az_deg, mask_el_deg, width: int, height: int, points=()
     cv.put(ax, 3, "\u2514" + "\u2500" * pc, st("axis"))  # └───
 
     # ---- azimuth ticks and labels ----------------------------------------------
-    names = {0: "N", 90: "E", 180: "S", 270: "W", 360: "N"}
+    names = dict(COMPASS if names is None else names)
+    names[360] = names[0]
     lab_row = P + 1
     every = 30 if pc / 12.0 >= 4.0 else (90 if pc / 4.0 >= 2.0 else 180)
-    for a in range(0, 361, every):
-        c = col_of(a) if a < 360 else width - 1
+    ticks = list(range(0, 361, every))
+    for a in ticks:
         if a not in (0, 360):
-            cv.put(ax, c, "\u252c", st("axis"))  # ┬
-        s = names.get(a, str(a))
+            cv.put(ax, col_of(a) if a < 360 else width - 1, "\u252c", st("axis"))  # ┬
+
+    def free(c0, n):
+        return c0 >= GUTTER and c0 + n <= width and all(
+            x == " " for x in cv.chars[lab_row, max(0, c0 - 1):c0 + n + 1].tolist())
+
+    # The named directions first: 0 from the left edge, 360 ending at the right
+    # edge, the others centred on their tick, else starting or ending there; a
+    # word with no room for it is left out (the numbers then fill in).
+    for a in sorted((a for a in ticks if a in names), key=lambda a: (a % 360 != 0, a != 0)):
+        s, c = names[a], col_of(a)
+        tries = [GUTTER] if a == 0 else ([width - len(s)] if a == 360 else
+                                         [c - (len(s) - 1) // 2, c, c - len(s) + 1])
+        c0 = next((t for t in tries if free(t, len(s))), None)
+        if c0 is not None:
+            cv.put(lab_row, c0, s, st("label"))
+    for a in ticks:  # the numbers where they leave a space either side
         if a in names:
-            cv.put(lab_row, c, s, st("label"))
-        else:
-            c0 = min(max(GUTTER, c - (len(s) - 1) // 2), width - len(s))
-            if all(x == " " for x in cv.chars[lab_row, c0 - 1:c0 + len(s) + 1].tolist()):
-                cv.put(lab_row, c0, s, st("soft"))
+            continue
+        s, c = str(a), col_of(a)
+        c0 = min(max(GUTTER, c - (len(s) - 1) // 2), width - len(s))
+        if all(x == " " for x in cv.chars[lab_row, c0 - 1:c0 + len(s) + 1].tolist()):
+            cv.put(lab_row, c0, s, st("soft"))
     if cursor_az is not None and math.isfinite(float(cursor_az)):
         c = col_of(float(cursor_az))
         cv.put(ax, c, CURSOR, st("cursor"))
@@ -289,6 +308,8 @@ class HorizonProfile(DrawingWidget):
 
     PLACEHOLDER = "Horizon profile: no points yet"
 
+    names = None  # {0, 90, 180, 270: label}; None: N E S W (set for a body frame)
+
     def show(self, mask, points=(), min_elevation_deg=None, cursor_az=None, photo=None) -> None:
         m_az = np.zeros(0) if mask is None else np.asarray(mask.az_deg, dtype=np.float64)
         m_el = np.zeros(0) if mask is None else np.asarray(mask.el_deg, dtype=np.float64)
@@ -314,4 +335,5 @@ class HorizonProfile(DrawingWidget):
                                colour=colour, cursor_az=d["cursor"],
                                min_elevation_deg=d["min"],
                                photo_az_deg=None if d.get("photo") is None else d["photo"][0],
-                               photo_el_deg=None if d.get("photo") is None else d["photo"][1])
+                               photo_el_deg=None if d.get("photo") is None else d["photo"][1],
+                               names=self.names)

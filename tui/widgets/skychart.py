@@ -51,6 +51,7 @@ from .drawing import (
     fit,
     too_small,
 )
+from .frames import COMPASS, axis_names
 
 __all__ = ["sky_chart", "sky_chart_from", "sky_layout", "SkyChart", "SkyLayout",
            "MIN_WIDTH", "MIN_HEIGHT"]
@@ -184,7 +185,7 @@ def _draw_legend_glyphs(cv: Canvas, row, col, glyphs, key, colour_of):
 
 
 def sky_chart_from(az_deg, el_deg, blocked, mask_az_deg, mask_el_deg, min_elevation_deg,
-                   width: int, height: int, colour: bool = True, fov=None) -> Text:
+                   width: int, height: int, colour: bool = True, fov=None, names=None) -> Text:
     """The sky chart as ``width`` x ``height`` character cells.
 
     Parameters (angles in degrees):
@@ -198,6 +199,10 @@ def sky_chart_from(az_deg, el_deg, blocked, mask_az_deg, mask_el_deg, min_elevat
       min_elevation_deg: the terminal's minimum elevation (dashed ring).
       colour: False gives no style spans at all (shapes carry every meaning).
       fov: None or (boresight_az_deg, boresight_el_deg, half_angle_deg).
+      names: {0, 90, 180, 270: label} for the top, right, bottom and left
+        (``frames.axis_names``; None: N E S W).  A vehicle's or vessel's tracks
+        come in its body frame (azimuth from the bow or front), so its chart
+        is labelled bow/stbd/stern/port or front/right/rear/left.
 
     From 15 x 9 cells up (below that: a short "enlarge the window" message).
     A legend goes beside the chart when the width leaves room, else on the
@@ -372,10 +377,17 @@ def sky_chart_from(az_deg, el_deg, blocked, mask_az_deg, mask_el_deg, min_elevat
 
     # ---- labels ------------------------------------------------------------------
     cv.put(rc, cc, ZENITH, colour_of("soft"))
-    cv.put(rc - n - 1, cc, "N", colour_of("label"))
-    cv.put(rc + n + 1, cc, "S", colour_of("label"))
-    cv.put(rc, cc + 2 * n + 1, "E", colour_of("label"))
-    cv.put(rc, cc - 2 * n - 1, "W", colour_of("label"))
+    names = COMPASS if names is None else names
+    for a, row in ((0, rc - n - 1), (180, rc + n + 1)):  # over and under the rim, centred
+        cv.put(row, cc - (len(names[a]) - 1) // 2, names[a], colour_of("label"))
+    right_room = (lay.legend_col - 1 if lay.legend == "side" else width) - (cc + 2 * n + 1)
+    for a, col, room in ((90, cc + 2 * n + 1, right_room), (270, cc - 2 * n - 1, cc - 2 * n)):
+        word = names[a]
+        if len(word) <= room:  # beside the rim, reading away from it
+            cv.put(rc, col if a == 90 else col - len(word) + 1, word, colour_of("label"))
+        else:  # no room across: down the margin column, centred on the row
+            for i, ch in enumerate(word):
+                cv.put(rc - (len(word) - 1) // 2 + i, col, ch, colour_of("label"))
     if n >= 6:
         # Elevation rings labelled where they cross the north axis, just east
         # of it (the rings themselves are not drawn: they would hide tracks).
@@ -447,7 +459,7 @@ def sky_chart(run, width: int, height: int, colour: bool = True) -> Text:
     t, s = run.tracks, run.site
     return sky_chart_from(t.az_deg, t.el_deg, run.assessment.blocked, run.mask.az_deg,
                           run.mask.el_deg, s.terminal.min_elevation_deg, width, height,
-                          colour=colour, fov=_fov_of(s))
+                          colour=colour, fov=_fov_of(s), names=axis_names(s))
 
 
 class SkyChart(DrawingWidget):
@@ -462,7 +474,7 @@ class SkyChart(DrawingWidget):
     def show(self, run) -> None:
         t, s = run.tracks, run.site
         self.show_samples(t.az_deg, t.el_deg, run.assessment.blocked, run.mask.az_deg,
-                          run.mask.el_deg, s.terminal.min_elevation_deg, fov=_fov_of(s))
+                          run.mask.el_deg, s.terminal.min_elevation_deg, fov=_fov_of(s), names=axis_names(s))
 
     show_run = show
 
@@ -471,10 +483,10 @@ class SkyChart(DrawingWidget):
         return 2 * n + 4
 
     def show_samples(self, az_deg, el_deg, blocked, mask_az_deg, mask_el_deg,
-                     min_elevation_deg, fov=None) -> None:
+                     min_elevation_deg, fov=None, names=None) -> None:
         self._set_data((az_deg, el_deg, blocked, mask_az_deg, mask_el_deg,
-                        float(min_elevation_deg), fov))
+                        float(min_elevation_deg), fov, names))
 
     def _draw(self, width, height, colour):
-        az, el, blk, m_az, m_el, me, fov = self._data
-        return sky_chart_from(az, el, blk, m_az, m_el, me, width, height, colour=colour, fov=fov)
+        az, el, blk, m_az, m_el, me, fov, names = self._data
+        return sky_chart_from(az, el, blk, m_az, m_el, me, width, height, colour=colour, fov=fov, names=names)
