@@ -24,5 +24,5 @@ class SkyView(Vertical):
         else:
             where = "North up, east right"
         self.query_one("#sky-caption", Static).update(
-            f"{where}, zenith in the middle.  {len(run.fleet):,} satellites over {w.hours:g} h "
+            f"{where}, zenith in the middle.  {len(run.fleet):,} satellite{'' if len(run.fleet) == 1 else 's'} over {w.hours:g} h "
             f"from {w.start:%Y-%m-%d %H:%M} UTC; minimum elevation {run.site.terminal.min_elevation_deg:g}°.")
