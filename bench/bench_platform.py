@@ -15,7 +15,6 @@ from __future__ import annotations
 
 import sys
 import tempfile
-import time
 from dataclasses import replace
 from pathlib import Path
 
@@ -23,20 +22,14 @@ import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "bench"))
+
+from timing import timed  # noqa: E402
 
 from survey.pipeline import run_site  # noqa: E402
 from survey.platform import read_route  # noqa: E402
 from survey.site import load_site  # noqa: E402
 from survey.tracks import Observer, compute_tracks  # noqa: E402
-
-
-def timed(fn, repeat=3):
-    best, out = float("inf"), None
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        out = fn()
-        best = min(best, time.perf_counter() - t0)
-    return best, out
 
 
 def road_speed_gpx(folder: Path) -> Path:

@@ -27,6 +27,9 @@ import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "bench"))
+
+from timing import timed  # noqa: E402
 
 from survey.horizon import HorizonPoint  # noqa: E402
 from survey.pipeline import TrackCache, run_site  # noqa: E402
@@ -48,15 +51,6 @@ def write_tile(folder: Path) -> Path:
     path = folder / "N46E008.hgt"
     path.write_bytes(np.rint(z).astype(">i2").tobytes())
     return path
-
-
-def timed(fn, repeat: int = 3):
-    best, out = float("inf"), None
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        out = fn()
-        best = min(best, time.perf_counter() - t0)
-    return best, out
 
 
 def main() -> None:
