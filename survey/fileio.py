@@ -142,7 +142,8 @@ def parse_json(text: str, where: str, what: str = "JSON") -> object:
 
     try:
         doc = json.loads(text)
-        json.dumps(doc, ensure_ascii=False).encode("utf-8")  # refuses a lone surrogate: not Unicode text
+        if _LONE_SURROGATE.search(text):  # only then re-encode (a whole catalogue is 20 MB): a lone one is no text
+            json.dumps(doc, ensure_ascii=False).encode("utf-8")
         return doc
     except UnicodeEncodeError:
         m = _LONE_SURROGATE.search(text)
